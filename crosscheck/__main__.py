@@ -1,0 +1,5 @@
+"""Allow `python -m crosscheck`."""
+
+from crosscheck.cli import main
+
+raise SystemExit(main())
