@@ -44,6 +44,9 @@ class Claim:
     covers the claim when it computes all of them.  `derived` holds the
     `where:` definitions (already substituted into every expression; kept for
     reports).  `line` is the 1-based line of the claim in its file.
+    `dimension_sides` is the equation with SI constants kept as symbols (their
+    values are substituted in lhs/rhs), for the dimensional check; None in
+    geometric units, where lhs/rhs serve.
     """
 
     id: str
@@ -68,6 +71,7 @@ class Claim:
     band: tuple[sympy.Expr, sympy.Expr] | None = None
     claim_line: int = 0
     claim_column: int = 0
+    dimension_sides: tuple[sympy.Expr, sympy.Expr] | None = None
 
     @property
     def symbols(self) -> tuple[sympy.Symbol, ...]:

@@ -33,10 +33,13 @@ PHI = sympy.Symbol("phi", real=True)
 
 
 def angle_symbols(count: int) -> tuple[sympy.Symbol, ...]:
-    """Angles of a unit (count)-sphere: (theta, phi) for count 2, else theta1...thetaN.
+    """Angles of a unit (count)-sphere: (phi,) for a circle, (theta, phi) for count 2,
+    else theta1...thetaN.
 
     The last angle is the azimuth; the others are polar angles in (0, pi).
     """
+    if count == 1:
+        return (PHI,)
     if count == 2:
         return (THETA, PHI)
     return tuple(sympy.Symbol(f"theta{i}", real=True) for i in range(1, count + 1))
@@ -46,13 +49,14 @@ def angle_symbols(count: int) -> tuple[sympy.Symbol, ...]:
 class StaticFunctions:
     """ds^2 = -F dt^2 + dr^2/G + R^2 dOmega_(dim-2)^2, with electrostatic A_t.
 
-    `dim` is the spacetime dimension (>= 2; dim 2 has no sphere and R is unused
-    but kept as r for uniformity; dim 3 has a circle).
+    `dim` is the spacetime dimension (>= 2; dim 2 has no sphere; dim 3 has a
+    circle).  R is None when the transverse space is not a round sphere of
+    radius R (for instance the flat planes of Rindler space).
     """
 
     F: sympy.Expr
     G: sympy.Expr
-    R: sympy.Expr
+    R: sympy.Expr | None
     dim: int = 4
     A_t: sympy.Expr | None = None
     r: sympy.Symbol = R_COORD

@@ -1,0 +1,1 @@
+"""Output formats.  Each reads the same `ClaimOutcome` objects and nothing else."""

@@ -1,0 +1,1 @@
+"""Routes: independent ways to compute observables.  See `registry` and `base`."""

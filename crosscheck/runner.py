@@ -1,0 +1,276 @@
+"""Claims x routes: run every applicable route on every claim and decide.
+
+For each claim: the dimension check first (reported like a route, named
+`dimensions`), then each route in name order.  A route's symbolic side is
+compared with the claim symbolically, its numeric side at seeded sample
+points; a crash becomes that route's `error`, a route over its time limit its
+`timeout`, and the other routes carry on.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import time
+import traceback
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass
+
+import mpmath
+import sympy
+
+from crosscheck import compare, units
+from crosscheck.claim import Claim
+from crosscheck.dimcheck import dimension_outcome
+from crosscheck.errors import CannotCompute, ClaimError
+from crosscheck.evaluate import NumericEvaluator, substitute_symbolic
+from crosscheck.measure import Measured
+from crosscheck.results import ClaimOutcome, Diagnosis, NumericRow, RouteOutcome, SymbolicCheck
+from crosscheck.routes.base import NumericResult, Problem, Route, SymbolicResult
+from crosscheck.suspects import suspicious_factors
+from crosscheck.timebox import run_limited
+
+
+@dataclass(frozen=True)
+class RunOptions:
+    """Settings that change results (so they are part of what reports record)."""
+
+    samples: int = 5
+    digits: int = 30
+    seed: int = 0
+    timeout: float = 60.0
+    symbolic_budget: float = 10.0
+
+
+class RouteTimeout(BaseException):
+    """A route exceeded its wall-clock limit."""
+
+
+def problem_for(claim: Claim) -> Problem:
+    """What routes see of a claim: its inputs, never its claimed value."""
+    return Problem(
+        spacetime=claim.spacetime,
+        detector=claim.detector,
+        parameters=claim.symbols,
+        wanted=claim.observables,
+        ranges={p.symbol: (p.lo, p.hi) for p in claim.parameters},
+    )
+
+
+def run_claims(
+    claims: Iterable[Claim],
+    routes: Mapping[str, Route],
+    options: RunOptions = RunOptions(),
+    on_result: Callable[[ClaimOutcome], None] | None = None,
+) -> list[ClaimOutcome]:
+    outcomes = []
+    for claim in claims:
+        outcome = run_claim(claim, routes, options)
+        outcomes.append(outcome)
+        if on_result is not None:
+            on_result(outcome)
+    return outcomes
+
+
+def run_claim(claim: Claim, routes: Mapping[str, Route], options: RunOptions = RunOptions()) -> ClaimOutcome:
+    started = time.perf_counter()
+    problem = problem_for(claim)
+    results = [dimension_outcome(claim)]
+    selected = routes if claim.routes is None else {n: routes[n] for n in claim.routes if n in routes}
+    for name in sorted(selected):
+        results.append(run_route(claim, selected[name], problem, options))
+    status = compare.claim_status(results)
+    return ClaimOutcome(
+        claim_id=claim.id,
+        title=claim.title,
+        file=claim.path,
+        line=claim.line,
+        status=status,  # type: ignore[arg-type]
+        claim_text=claim.text,
+        routes=tuple(results),
+        sources=claim.sources,
+        seconds=time.perf_counter() - started,
+    )
+
+
+def invalid_outcome(error: ClaimError) -> ClaimOutcome:
+    """A file or claim that could not be loaded, as an ordinary result."""
+    return ClaimOutcome(
+        claim_id=f"{error.path}:{error.line}", title="invalid claim file", file=error.path,
+        line=error.line, status="invalid", error=str(error),
+    )
+
+
+def run_route(claim: Claim, route: Route, problem: Problem, options: RunOptions) -> RouteOutcome:
+    """One route on one claim, isolated: nothing it raises escapes."""
+    base = RouteOutcome(route=route.name, title=route.title, grade=route.grade, status="not-applicable")
+    missing = sorted(claim.observables - route.observables)
+    if missing:
+        return dataclasses.replace(base, reason=f"does not compute {', '.join(missing)}")
+    started = time.perf_counter()
+    try:
+        reason = route.applies(problem)
+        if reason:
+            return dataclasses.replace(base, reason=reason)
+        outcome = run_limited(lambda: _checked_route(claim, route, problem, options, base), options.timeout, RouteTimeout)
+    except RouteTimeout:
+        outcome = dataclasses.replace(base, status="timeout", reason=f"no result within {options.timeout:g} s")
+    except Exception as exc:  # isolation: one route's failure is its own result
+        outcome = dataclasses.replace(base, status="error", reason=_error_text(exc))
+    return dataclasses.replace(outcome, seconds=time.perf_counter() - started)
+
+
+def _error_text(exc: BaseException) -> str:
+    where = traceback.extract_tb(exc.__traceback__)[-1:] if exc.__traceback__ else []
+    origin = f" (at {where[0].name} in {where[0].filename.rsplit('/', 1)[-1]}:{where[0].lineno})" if where else ""
+    return f"{type(exc).__name__}: {exc}{origin}"
+
+
+def _checked_route(claim: Claim, route: Route, problem: Problem, options: RunOptions, base: RouteOutcome) -> RouteOutcome:
+    scaling = claim.agreement == "scaling"
+    notes: list[str] = []
+    symbolic_result, symbolic_check, sides = _symbolic_side(claim, route, problem, options, notes)
+    numeric_rows, numeric_result, points, numeric_values = _numeric_side(claim, route, problem, options, notes)
+    status, reason = compare.route_status(symbolic_check, numeric_rows)
+    if route.grade == "estimate" and not scaling and status == "disagree":
+        status, reason = "inconclusive", "estimate routes vote only on 'agreement: scaling' claims; " + reason
+    diagnosis = None
+    if status == "disagree" or (route.grade == "estimate" and not scaling):
+        diagnosis = _diagnose(claim, sides, points, numeric_values, options)
+    if notes:
+        reason = "; ".join([reason, *notes]) if reason else "; ".join(notes)
+    provenance = tuple(dict.fromkeys((symbolic_result.provenance if symbolic_result else ()) + (numeric_result.provenance if numeric_result else ())))
+    return dataclasses.replace(
+        base,
+        status=status,  # type: ignore[arg-type]
+        reason=reason,
+        symbolic=symbolic_check,
+        numeric=numeric_rows,
+        max_rel_diff=max((row.rel_diff for row in numeric_rows), default=None),
+        diagnosis=diagnosis,
+        provenance=provenance,
+        steps=tuple((step.label, sympy.sstr(step.expr)) for step in (symbolic_result.steps if symbolic_result else ())),
+        values={k: sympy.sstr(v) for k, v in (symbolic_result.values.items() if symbolic_result else ())},
+        evidence=_plain(numeric_result.evidence) if numeric_result else {},
+    )
+
+
+# -- symbolic side -----------------------------------------------------------------------------
+def _symbolic_side(claim, route, problem, options, notes):
+    try:
+        result = _to_claim_units_symbolic(route.symbolic(problem), claim)
+        route_side = substitute_symbolic(claim.lhs, result)
+        claim_side = substitute_symbolic(claim.rhs, result)
+    except CannotCompute as exc:
+        notes.append(f"symbolic side unavailable: {exc}")
+        return None, SymbolicCheck(verdict="unavailable", method=str(exc)), None
+    check = compare.symbolic_verdict(
+        route_side, claim_side, claim.parameters, time_budget=options.symbolic_budget,
+        seed=options.seed, scaling=claim.agreement == "scaling",
+    )
+    return result, check, (route_side, claim_side)
+
+
+def _to_claim_units_symbolic(result: SymbolicResult, claim: Claim) -> SymbolicResult:
+    if claim.units == "geometric":
+        return result
+    dim = _dim(claim)
+    values = {k: units.to_claim_units(k, v, claim.units, dim) for k, v in result.values.items()}
+    functions = {
+        k: sympy.Lambda(f.variables, units.to_claim_units(k, f.expr, claim.units, dim)) for k, f in result.functions.items()
+    }
+    return dataclasses.replace(result, values=values, functions=functions)
+
+
+def _dim(claim: Claim) -> int:
+    return claim.spacetime.metric.dim if claim.spacetime is not None else 4
+
+
+# -- numeric side ------------------------------------------------------------------------------
+def _numeric_side(claim, route, problem, options, notes):
+    points = compare.sample_points(claim.parameters, options.samples, options.seed)
+    last: list[NumericResult] = []
+
+    def provider(point):
+        result = _to_claim_units_numeric(route.numeric(problem, point, options.digits), claim)
+        last.append(result)
+        return result
+
+    evaluator = NumericEvaluator(provider, options.digits)
+    route_values, claim_values, used = [], [], []
+    with mpmath.workdps(options.digits + 10):
+        for point in points:
+            numeric_point = {s: mpmath.mpf(v.p) / v.q for s, v in point.items()}
+            try:
+                route_values.append(evaluator.evaluate(claim.lhs, numeric_point))
+                claim_values.append(evaluator.evaluate(claim.rhs, numeric_point))
+            except CannotCompute as exc:
+                notes.append(f"numeric side unavailable: {exc}")
+                return (), None, points, None
+            used.append(point)
+    rows = compare.numeric_rows(used, route_values, claim_values, claim.tolerance, scaling=claim.agreement == "scaling")
+    return rows, (last[0] if last else None), used, (route_values, claim_values)
+
+
+def _to_claim_units_numeric(result: NumericResult, claim: Claim) -> NumericResult:
+    if claim.units == "geometric":
+        return result
+    dim = _dim(claim)
+
+    def convert(name: str, m: Measured) -> Measured:
+        factor = units.to_claim_units(name, mpmath.mpf(1), claim.units, dim)
+        return Measured(m.value * factor, m.error * abs(factor))
+
+    values = {k: convert(k, m) for k, m in result.values.items()}
+    functions = {k: (lambda r, f=f, k=k: convert(k, f(r))) for k, f in result.functions.items()}
+    return dataclasses.replace(result, values=values, functions=functions)
+
+
+# -- diagnosis ---------------------------------------------------------------------------------
+def _diagnose(claim, sides, points, numeric_values, options) -> Diagnosis | None:
+    """Diagnose from high-precision values: the closed forms if any, else the numbers."""
+    if not points:
+        return None
+    route_values, claim_values = _diagnosis_values(sides, points, numeric_values, options.digits)
+    if route_values is None:
+        return None
+    candidates = suspicious_factors(claim, points, options.digits)
+    return compare.diagnose(points, route_values, claim_values, claim.parameters, candidates=candidates, digits=options.digits)
+
+
+def _diagnosis_values(sides, points, numeric_values, digits):
+    if sides is not None:
+        try:
+            with mpmath.workdps(digits + 10):
+                route = [_evalf(sides[0], p, digits) for p in points]
+                claim = [_evalf(sides[1], p, digits) for p in points]
+            return route, claim
+        except (TypeError, ValueError, ArithmeticError):
+            pass
+    if numeric_values is None:
+        return None, None
+    return [m.value for m in numeric_values[0]], [m.value for m in numeric_values[1]]
+
+
+def _evalf(expr: sympy.Expr, point, digits: int):
+    value = expr.evalf(digits + 10, subs=dict(point))
+    if value.is_real:
+        return mpmath.mpf(sympy.Float(value, digits + 10)._mpf_)
+    return mpmath.mpc(complex(value))
+
+
+def _plain(evidence: Mapping[str, object]) -> dict[str, object]:
+    """Evidence as JSON-friendly data (floats, strings, lists of them)."""
+
+    def clean(value):
+        if isinstance(value, (str, int, float, bool)) or value is None:
+            return value
+        if isinstance(value, (list, tuple)):
+            return [clean(v) for v in value]
+        if isinstance(value, dict):
+            return {str(k): clean(v) for k, v in value.items()}
+        try:
+            return float(value)
+        except (TypeError, ValueError):
+            return str(value)
+
+    return {str(k): clean(v) for k, v in evidence.items()}
