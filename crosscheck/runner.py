@@ -27,7 +27,7 @@ from crosscheck.measure import Measured
 from crosscheck.results import ClaimOutcome, Diagnosis, NumericRow, RouteOutcome, SymbolicCheck
 from crosscheck.routes.base import NumericResult, Problem, Route, SymbolicResult
 from crosscheck.suspects import suspicious_factors
-from crosscheck.timebox import run_limited
+from crosscheck.timebox import OutOfTime, run_limited
 
 
 @dataclass(frozen=True)
@@ -156,13 +156,21 @@ def _checked_route(claim: Claim, route: Route, problem: Problem, options: RunOpt
 
 # -- symbolic side -----------------------------------------------------------------------------
 def _symbolic_side(claim, route, problem, options, notes):
+    result = None
     try:
         result = _to_claim_units_symbolic(route.symbolic(problem), claim)
-        route_side = substitute_symbolic(claim.lhs, result)
-        claim_side = substitute_symbolic(claim.rhs, result)
+        # sympy's limit and integrate can run for ever: the numeric side decides then.
+        route_side, claim_side = run_limited(
+            lambda: (substitute_symbolic(claim.lhs, result), substitute_symbolic(claim.rhs, result)),
+            options.symbolic_budget,
+        )
+    except OutOfTime:
+        message = f"sympy did not finish the claim's calculus within {options.symbolic_budget:g} s"
+        notes.append(f"symbolic side unavailable: {message}")
+        return result, SymbolicCheck(verdict="unavailable", method=message), None
     except CannotCompute as exc:
         notes.append(f"symbolic side unavailable: {exc}")
-        return None, SymbolicCheck(verdict="unavailable", method=str(exc)), None
+        return result, SymbolicCheck(verdict="unavailable", method=str(exc)), None
     check = compare.symbolic_verdict(
         route_side, claim_side, claim.parameters, time_budget=options.symbolic_budget,
         seed=options.seed, scaling=claim.agreement == "scaling",
