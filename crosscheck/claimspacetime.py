@@ -19,14 +19,14 @@ from crosscheck.spacetimes import (
     family,
     line_element_metric,
     missing_symbols,
-    stationary_metric,
     static_metric,
+    stationary_metric,
 )
 from crosscheck.spacetimes.base import (
     PHI,
     R_COORD,
-    THETA,
     T_COORD,
+    THETA,
     HorizonSpec,
     Metric,
     Normalization,

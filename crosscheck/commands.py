@@ -9,8 +9,8 @@ import time
 from collections.abc import Sequence
 
 from crosscheck import __version__
-from crosscheck.cli import ExitCode
 from crosscheck.claimfile import load_paths
+from crosscheck.cli import ExitCode
 from crosscheck.errors import ClaimError
 from crosscheck.oneoff import one_off_claim
 from crosscheck.report import terminal

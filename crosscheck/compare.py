@@ -240,7 +240,7 @@ def _numeric_verdict(route, claim, points, digits: int, scaling: bool, deadline:
     for point in points:
         try:
             outcome = _run_limited(
-                lambda p=point: _point_difference(route, claim, p, reference, digits, scaling),
+                lambda p=point, ref=reference: _point_difference(route, claim, p, ref, digits, scaling),
                 deadline - time.monotonic(),
             )
         except _OutOfTime:

@@ -24,7 +24,7 @@ from crosscheck.dimcheck import dimension_outcome
 from crosscheck.errors import CannotCompute, ClaimError
 from crosscheck.evaluate import NumericEvaluator, substitute_symbolic
 from crosscheck.measure import Measured
-from crosscheck.results import ClaimOutcome, Diagnosis, NumericRow, RouteOutcome, SymbolicCheck
+from crosscheck.results import ClaimOutcome, Diagnosis, RouteOutcome, SymbolicCheck
 from crosscheck.routes.base import NumericResult, Problem, Route, SymbolicResult
 from crosscheck.suspects import suspicious_factors
 from crosscheck.timebox import OutOfTime, run_limited

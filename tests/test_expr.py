@@ -16,8 +16,15 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from crosscheck.errors import ExprError
-from crosscheck.expr import (CONSTANT_NAMES, DEFAULT_LIMITS, FUNCTION_NAMES, ExprLimits, is_valid_name,
-                             parse_equation, parse_expression)
+from crosscheck.expr import (
+    CONSTANT_NAMES,
+    DEFAULT_LIMITS,
+    FUNCTION_NAMES,
+    ExprLimits,
+    is_valid_name,
+    parse_equation,
+    parse_expression,
+)
 from crosscheck.observables import observable_function
 
 M, r, q, x, R = sympy.symbols("M r q x R", positive=True)

@@ -14,9 +14,25 @@ import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.spacetimes import (
-    FAMILIES, PHI, R_COORD, THETA, HorizonSpec, Normalization, Spacetime, build_spacetime, describe_families,
-    family, horizon_radius, horizon_radius_numeric, killing_norm, line_element_metric, normalization_factor,
-    normalization_factor_numeric, normalization_radius_numeric, static_metric, stationary_metric,
+    FAMILIES,
+    PHI,
+    R_COORD,
+    THETA,
+    HorizonSpec,
+    Normalization,
+    Spacetime,
+    build_spacetime,
+    describe_families,
+    family,
+    horizon_radius,
+    horizon_radius_numeric,
+    killing_norm,
+    line_element_metric,
+    normalization_factor,
+    normalization_factor_numeric,
+    normalization_radius_numeric,
+    static_metric,
+    stationary_metric,
 )
 from crosscheck.spacetimes.families import missing_symbols
 

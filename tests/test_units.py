@@ -17,11 +17,25 @@ from hypothesis import strategies as st
 from crosscheck.errors import CrosscheckError, DimensionError
 from crosscheck.measure import Measured
 from crosscheck.observables import observable_function, scalar_placeholder
-from crosscheck.units import (DIMENSIONLESS, LENGTH, MASS, SI_CONSTANTS, TEMPERATURE, TIME,
-                              Dimension, DimensionUnknown, check_claim_dimensions,
-                              constant_dimensions, constant_names, constant_values,
-                              conversion_factor, dimension_of, infer_dimensions,
-                              observable_dimensions, to_claim_units)
+from crosscheck.units import (
+    DIMENSIONLESS,
+    LENGTH,
+    MASS,
+    SI_CONSTANTS,
+    TEMPERATURE,
+    TIME,
+    Dimension,
+    DimensionUnknown,
+    check_claim_dimensions,
+    constant_dimensions,
+    constant_names,
+    constant_values,
+    conversion_factor,
+    dimension_of,
+    infer_dimensions,
+    observable_dimensions,
+    to_claim_units,
+)
 
 M, Q, r, H, L, l, mu, a, b, q, x = sympy.symbols("M Q r H L l mu a b q x", positive=True)
 hbar, c, G, k_B, eps0 = sympy.symbols("hbar c G k_B epsilon_0", positive=True)

@@ -16,12 +16,13 @@ sees small expressions.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Mapping, Sequence
-
 import functools
+from collections.abc import Callable, Mapping, Sequence
 
 import mpmath
 import sympy
+
+from crosscheck.spacetimes.evaluation import as_sympy
 
 Point = Mapping[sympy.Symbol, object]
 
@@ -146,7 +147,7 @@ def numeric_function(expr: sympy.Expr, args: Sequence[sympy.Symbol]) -> Callable
 
 def value_at(expr: sympy.Expr, point: Point, dps: int) -> mpmath.mpf | mpmath.mpc:
     """expr at point (symbol -> number) computed with mpmath at dps digits."""
-    expr = sympy.sympify(expr)
+    expr = as_sympy(expr)
     symbols = sorted(expr.free_symbols, key=str)
     missing = [s for s in symbols if s not in point]
     if missing:
@@ -166,7 +167,7 @@ def vanishes(expr: sympy.Expr, point: Point) -> bool:
 
 def zero_flags(expr: sympy.Expr, points: Sequence[Point]) -> list[bool]:
     """`vanishes` at each point, compiling expr once."""
-    expr = sympy.sympify(expr)
+    expr = as_sympy(expr)
     if expr == 0:
         return [True] * len(points)
     symbols = sorted(expr.free_symbols, key=str)
@@ -312,7 +313,7 @@ def simplify_radical(expr: sympy.Expr, points: Sequence[Point] = ()) -> sympy.Ex
     returned as they are.  Small results are tried with `simplify` and kept
     only if shorter.
     """
-    expr = sympy.sympify(expr)
+    expr = as_sympy(expr)
     if _complicated(expr):
         return expr
     radicals = _radicals(expr)
@@ -420,7 +421,7 @@ def positive_sqrt(expr: sympy.Expr, points: Sequence[Point]) -> sympy.Expr:
     it is >= 0 and squares to expr at every point where expr >= 0 (50
     digits); otherwise the plain principal root is returned.
     """
-    expr = sympy.sympify(expr)
+    expr = as_sympy(expr)
     if expr == 0:
         return sympy.Integer(0)
     plain = sympy.sqrt(expr)

@@ -23,6 +23,7 @@ from crosscheck.measure import Measured
 from crosscheck.numerics import richardson_limit
 from crosscheck.routes import _killing_algebra as ka
 from crosscheck.spacetimes.base import Metric, angle_symbols
+from crosscheck.spacetimes.evaluation import as_sympy
 from crosscheck.spacetimes.forms import unit_sphere
 from crosscheck.spacetimes.horizon import equatorial, killing_norm
 from crosscheck.spacetimes.normalize import geodesic_radius, normalization_radius_numeric
@@ -104,7 +105,7 @@ def geometry(metric: Metric) -> Geometry:
     omega_eq = sympy.Integer(0) if k is None else sympy.cancel(sympy.together(equatorial(-g[0, k] / g[k, k], metric)))
     symbols = set(g.free_symbols)
     for component in metric.potential or ():
-        symbols |= sympy.sympify(component).free_symbols
+        symbols |= as_sympy(component).free_symbols
     params = tuple(sorted(symbols - set(coords), key=str))
     polar = tuple(c for c in coords[2:] if c != metric.axial)
     return Geometry(
@@ -270,9 +271,9 @@ def potential_field(geo: Geometry) -> sympy.Expr:
     potential = geo.metric.potential
     if potential is None:
         raise CannotCompute("Phi needs the electromagnetic potential A_mu of the metric (none given)")
-    field = sympy.sympify(potential[0])
+    field = as_sympy(potential[0])
     if geo.axial_index is not None:
-        field += geo.W * sympy.sympify(potential[geo.axial_index])
+        field += geo.W * as_sympy(potential[geo.axial_index])
     return field
 
 

@@ -10,10 +10,27 @@ into code.  Precision is always local (`mpmath.workdps`).
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
+from fractions import Fraction
 
 import mpmath
 import sympy
 
+
+def as_sympy(value: object) -> sympy.Basic:
+    """A sympy object from a sympy object or a Python number -- never from text.
+
+    Strings are refused: text from claim files goes through `crosscheck.expr`
+    only (sympy's own conversion of strings ends in `eval`).
+    """
+    if isinstance(value, sympy.Basic):
+        return value
+    if isinstance(value, bool) or not isinstance(value, (int, float, Fraction)):
+        raise TypeError(f"expected a sympy expression or a number, got {type(value).__name__}")
+    if isinstance(value, int):
+        return sympy.Integer(value)
+    if isinstance(value, Fraction):
+        return sympy.Rational(value.numerator, value.denominator)
+    return sympy.Float(value)
 
 
 
@@ -41,14 +58,14 @@ def evaluate(expr: sympy.Expr, point: Mapping[sympy.Symbol, object], digits: int
     Raises ValueError when symbols remain unset or the value is not finite.
     """
     subs = {sym: to_sympy_number(val, digits + 5) for sym, val in point.items()}
-    expr = sympy.sympify(expr)
+    expr = as_sympy(expr)
     missing = expr.free_symbols - set(subs)
     if missing:
         names = ", ".join(sorted(str(s) for s in missing))
         raise ValueError(f"cannot evaluate {expr}: no value for {names}")
     value = expr.evalf(digits, subs=subs)
     if not value.is_number or value.has(sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
-        raise ValueError(f"{expr} is not finite at {_describe(point)}")
+        raise ValueError(f"{expr} is not finite at {describe_point(point)}")
     with mpmath.workdps(digits):
         result = value._to_mpmath(mpmath.mp.prec)
     if isinstance(result, mpmath.mpc) and result.imag == 0:
@@ -134,7 +151,7 @@ def real_function(
 
     Returns mpmath.nan where the expression is singular (division by zero...).
     """
-    expr = sympy.sympify(expr)
+    expr = as_sympy(expr)
     missing = expr.free_symbols - {variable} - set(point)
     if missing:
         names = ", ".join(sorted(str(s) for s in missing))

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 import sympy
 
 from crosscheck.spacetimes.base import R_COORD, T_COORD, THETA, HorizonSpec, Metric, StaticFunctions
+from crosscheck.spacetimes.evaluation import as_sympy
 from crosscheck.spacetimes.forms import static_metric, stationary_metric
 
 # Exact SI constants, CODATA 2018 (NIST SP 961, 2019): c is exact in the SI;
@@ -125,7 +126,7 @@ def _geometric(
         raise ValueError(
             f"spacetime family '{family}' needs symbol(s) {', '.join(missing)} (bind them in parameters or where)"
         )
-    values = {s: sympy.sympify(bindings[s]) for s in kinds}
+    values = {s: as_sympy(bindings[s]) for s in kinds}
     if units == "si":
         values = {s: _TO_GEOMETRIC[kinds[s]](v) for s, v in values.items()}
     return values

@@ -14,6 +14,7 @@ from collections.abc import Mapping, Sequence
 import sympy
 
 from crosscheck.spacetimes.base import PHI, R_COORD, T_COORD, THETA, Metric, StaticFunctions, angle_symbols
+from crosscheck.spacetimes.evaluation import as_sympy
 
 
 def unit_sphere(angles: Sequence[sympy.Symbol]) -> list[sympy.Expr]:
@@ -44,26 +45,26 @@ def static_metric(
     """
     if not isinstance(dim, int) or isinstance(dim, bool) or dim < 2:
         raise ValueError(f"static metric: dim must be an integer >= 2, got {dim!r}")
-    F = sympy.sympify(F)
-    G = F if G is None else sympy.sympify(G)
-    R = r if R is None else sympy.sympify(R)
+    F = as_sympy(F)
+    G = F if G is None else as_sympy(G)
+    R = r if R is None else as_sympy(R)
     angles = angle_symbols(dim - 2) if dim > 2 else ()
     diagonal = [-F, 1 / G] + [R**2 * h for h in unit_sphere(angles)]
     coords = (T_COORD, r, *angles)
     potential = None
     if A_t is not None:
-        potential = (sympy.sympify(A_t),) + (sympy.Integer(0),) * (dim - 1)
+        potential = (as_sympy(A_t),) + (sympy.Integer(0),) * (dim - 1)
     return Metric(
         coords=coords,
         g=sympy.ImmutableMatrix(sympy.diag(*diagonal)),
         form="static",
         potential=potential,
-        static=StaticFunctions(F=F, G=G, R=R, dim=dim, A_t=None if A_t is None else sympy.sympify(A_t), r=r),
+        static=StaticFunctions(F=F, G=G, R=R, dim=dim, A_t=None if A_t is None else as_sympy(A_t), r=r),
     )
 
 
 def _depends_only_on(expr: sympy.Expr, allowed: set[sympy.Symbol], coords: Sequence[sympy.Symbol]) -> bool:
-    return not (sympy.sympify(expr).free_symbols & (set(coords) - allowed))
+    return not (as_sympy(expr).free_symbols & (set(coords) - allowed))
 
 
 def stationary_metric(
@@ -82,7 +83,7 @@ def stationary_metric(
     static and round (g_tphi = 0, g_tt and g_rr functions of r, g_thth = R^2,
     g_phiphi = R^2 sin^2 theta) the static functions are recorded as well.
     """
-    comps = [sympy.sympify(x) for x in (g_tt, g_tphi, g_phiphi, g_rr, g_thth)]
+    comps = [as_sympy(x) for x in (g_tt, g_tphi, g_phiphi, g_rr, g_thth)]
     g_tt, g_tphi, g_phiphi, g_rr, g_thth = comps
     coords = (T_COORD, R_COORD, THETA, PHI)
     for name, comp in zip(("g_tt", "g_tphi", "g_phiphi", "g_rr", "g_thth"), comps):
@@ -99,10 +100,10 @@ def stationary_metric(
     potential = None
     if A_t is not None or A_phi is not None:
         potential = (
-            sympy.sympify(A_t if A_t is not None else 0),
+            as_sympy(A_t if A_t is not None else 0),
             sympy.Integer(0),
             sympy.Integer(0),
-            sympy.sympify(A_phi if A_phi is not None else 0),
+            as_sympy(A_phi if A_phi is not None else 0),
         )
     static = None
     if g_tphi == 0 and _depends_only_on(g_tt, {R_COORD}, coords) and _depends_only_on(g_rr, {R_COORD}, coords):
@@ -113,7 +114,7 @@ def stationary_metric(
                 G=1 / g_rr,
                 R=sympy.sqrt(g_thth),
                 dim=4,
-                A_t=None if A_t is None or A_phi not in (None, 0) else sympy.sympify(A_t),
+                A_t=None if A_t is None or A_phi not in (None, 0) else as_sympy(A_t),
             )
     return Metric(
         coords=coords,
@@ -140,7 +141,7 @@ def _quadratic_form(
         raise ValueError(f"line_element: no differential symbol for coordinate(s) {', '.join(missing)}")
     dx = [differentials[c] for c in coords]
     try:
-        poly = sympy.Poly(sympy.sympify(ds2), *dx)
+        poly = sympy.Poly(as_sympy(ds2), *dx)
     except sympy.PolynomialError as exc:
         raise ValueError("line_element: ds^2 is not a polynomial in the differentials") from exc
     names = ", ".join(str(d) for d in dx)

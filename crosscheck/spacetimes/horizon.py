@@ -25,8 +25,8 @@ from sympy.polys.polyerrors import BasePolynomialError
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.spacetimes.base import Metric, Spacetime
+from crosscheck.spacetimes.evaluation import as_sympy, evaluate, real_function, to_mp
 from crosscheck.spacetimes.evaluation import describe_point as _describe
-from crosscheck.spacetimes.evaluation import evaluate, real_function, to_mp
 
 # Digits used to order symbolic root candidates at the representative point.
 _CHOICE_DIGITS = 30
@@ -89,7 +89,7 @@ def equatorial(expr: sympy.Expr, metric: Metric) -> sympy.Expr:
     regular value would do, and pi/2 avoids the axis where sin(theta) = 0.
     """
     others = {c: sympy.pi / 2 for c in metric.coords[2:]}
-    return sympy.sympify(expr).subs(others)
+    return as_sympy(expr).subs(others)
 
 
 def _numerator(expr: sympy.Expr, r: sympy.Symbol) -> sympy.Expr:
