@@ -136,6 +136,10 @@ def _checked_route(claim: Claim, route: Route, problem: Problem, options: RunOpt
     diagnosis = None
     if status == "disagree" or (route.grade == "estimate" and not scaling):
         diagnosis = _diagnose(claim, sides, points, numeric_values, options)
+    elif scaling and status == "agree":
+        ratio = _diagnose(claim, sides, points, numeric_values, options)
+        if ratio is not None and ratio.kind in ("factor", "sign"):
+            notes.append(f"equal up to a constant: claim/route = {ratio.factor or '-1'}")
     if notes:
         reason = "; ".join([reason, *notes]) if reason else "; ".join(notes)
     provenance = tuple(dict.fromkeys((symbolic_result.provenance if symbolic_result else ()) + (numeric_result.provenance if numeric_result else ())))

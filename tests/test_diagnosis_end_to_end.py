@@ -132,3 +132,13 @@ def test_correct_claims_are_not_contradicted():
     for claim in ("T = 1/(8*pi*M)", "kappa = 1/(4*M)", "S = 4*pi*M**2", "r_h = 2*M"):
         outcome = outcome_of(SCHWARZSCHILD.format(claim=claim))
         assert outcome.status == "confirmed", (claim, [(r.route, r.status, r.reason) for r in outcome.routes])
+
+
+def test_scaling_claim_agrees_and_reports_the_constant():
+    # Source: Hawking 1975, T = 1/(8 pi M): T scales as 1/M with the constant 1/(8 pi).
+    text = SCHWARZSCHILD.format(claim="T = 1/M") + "agreement: scaling\n"
+    outcome = outcome_of(text)
+    assert outcome.status == "confirmed"
+    for route in outcome.routes:
+        if route.route != "dimensions":
+            assert "claim/route = 8*pi" in route.reason
