@@ -39,7 +39,8 @@ def to_html(outcomes: Sequence[ClaimOutcome], run: Mapping[str, object]) -> str:
         (o, [next((r for r in o.routes if r.route == name), None) for name in columns]) for o in outcomes
     ]
     counts = {word: sum(1 for o in outcomes if o.status == word) for word in CLAIM_WORDS}
+    tally = ", ".join(f"{n} {word}" for word, n in counts.items() if n) or "none"
     return template.render(
         outcomes=outcomes, columns=columns, matrix=matrix, run=run, marks=MARKS,
-        claim_words=CLAIM_WORDS, counts=counts,
+        claim_words=CLAIM_WORDS, tally=tally,
     )
