@@ -35,3 +35,19 @@ def test_claim_text_is_escaped_and_page_is_self_contained():
     assert "Content-Security-Policy" in page and "default-src 'none'" in page
     assert not re.search(r"(src|href)=\"(https?:)?//", page)
     assert "CONFIRMED" in page
+
+
+def test_reports_are_written_atomically_and_readable(tmp_path):
+    import os
+    import stat
+
+    from crosscheck.report.files import write_atomic
+
+    target = tmp_path / "sub" / "report.html"
+    write_atomic(str(target), "first")
+    write_atomic(str(target), "second")
+    assert target.read_text() == "second"
+    assert [p.name for p in target.parent.iterdir()] == ["report.html"]  # no temporary left
+    umask = os.umask(0)
+    os.umask(umask)
+    assert stat.S_IMODE(os.stat(target).st_mode) == 0o666 & ~umask  # as an ordinary file, not 0600

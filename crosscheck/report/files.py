@@ -14,8 +14,15 @@ def write_atomic(path: str, text: str) -> None:
     try:
         with os.fdopen(handle, "w", encoding="utf-8") as stream:
             stream.write(text)
+        os.chmod(temporary, 0o666 & ~_umask())  # mkstemp makes 0600; reports are for sharing
         os.replace(temporary, path)
     except BaseException:
         if os.path.exists(temporary):
             os.unlink(temporary)
         raise
+
+
+def _umask() -> int:
+    current = os.umask(0)
+    os.umask(current)
+    return current
