@@ -24,6 +24,7 @@ import sympy
 from crosscheck.claim import Parameter
 from crosscheck.diagnose import diagnose
 from crosscheck.measure import Measured
+from crosscheck.mpfunctions import MPMATH_FUNCTIONS
 from crosscheck.results import NumericRow, RouteOutcome, SymbolicCheck
 from crosscheck.timebox import run_limited
 
@@ -147,10 +148,6 @@ def _prove_zero(targets: list[sympy.Expr], deadline: float) -> tuple[str | None,
     return None, notes
 
 
-#: sympy functions evaluated directly by their mpmath namesakes (abs for Abs).
-_FUNCTIONS = frozenset("exp log sin cos tan sinh cosh tanh asinh acosh atanh atan".split())
-
-
 def _mp_value(expr: sympy.Expr, values: Mapping[sympy.Symbol, object], memo: dict, digits: int):
     """expr at the current mpmath precision, walking the tree (no code generation):
     much faster than evalf(subs=...), shared subtrees once; other nodes use evalf."""
@@ -175,9 +172,8 @@ def _mp_value(expr: sympy.Expr, values: Mapping[sympy.Symbol, object], memo: dic
             value = base ** int(exponent)
         else:
             value = mpmath.power(base, _mp_value(exponent, values, memo, digits))
-    elif isinstance(expr, sympy.Function) and expr.func.__name__ in _FUNCTIONS | {"Abs"} and len(expr.args) == 1:
-        function = abs if expr.func is sympy.Abs else getattr(mpmath, expr.func.__name__)
-        value = function(_mp_value(expr.args[0], values, memo, digits))
+    elif expr.func in MPMATH_FUNCTIONS and len(expr.args) == 1:
+        value = MPMATH_FUNCTIONS[expr.func](_mp_value(expr.args[0], values, memo, digits))
     elif expr.func in (sympy.Min, sympy.Max):
         args = [_mp_value(a, values, memo, digits) for a in expr.args]
         value = min(args) if expr.func is sympy.Min else max(args)

@@ -21,18 +21,13 @@ from sympy.core.function import AppliedUndef
 
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
+from crosscheck.mpfunctions import MPMATH_FUNCTIONS
 from crosscheck.numerics import richardson_limit
 from crosscheck.observables import FUNCTION_OBSERVABLES, SCALAR_OBSERVABLES, substitute_observables
 from crosscheck.routes.base import NumericResult, SymbolicResult
 
 Provider = Callable[[Mapping[sympy.Symbol, mpmath.mpf]], NumericResult]
 
-_MPMATH_FUNCTIONS: dict[type, Callable] = {
-    sympy.exp: mpmath.exp, sympy.log: mpmath.log, sympy.sin: mpmath.sin, sympy.cos: mpmath.cos,
-    sympy.tan: mpmath.tan, sympy.sinh: mpmath.sinh, sympy.cosh: mpmath.cosh, sympy.tanh: mpmath.tanh,
-    sympy.asinh: mpmath.asinh, sympy.acosh: mpmath.acosh, sympy.atanh: mpmath.atanh,
-    sympy.atan: mpmath.atan, sympy.Abs: abs,
-}
 
 
 def substitute_symbolic(expr: sympy.Expr, result: SymbolicResult) -> sympy.Expr:
@@ -185,8 +180,8 @@ def _operation(node: sympy.Basic) -> Callable[[list], mpmath.mpf]:
         return lambda v: min(v)
     if isinstance(node, sympy.Max):
         return lambda v: max(v)
-    if node.func in _MPMATH_FUNCTIONS:
-        function = _MPMATH_FUNCTIONS[node.func]
+    if node.func in MPMATH_FUNCTIONS:
+        function = MPMATH_FUNCTIONS[node.func]
         return lambda v: function(*v)
     raise CannotCompute(f"cannot evaluate {node.func.__name__} numerically")
 

@@ -15,6 +15,8 @@ from fractions import Fraction
 import mpmath
 import sympy
 
+from crosscheck.mpfunctions import MPMATH_FUNCTIONS
+
 
 def as_sympy(value: object) -> sympy.Basic:
     """A sympy object from a sympy object or a Python number -- never from text.
@@ -73,23 +75,6 @@ def evaluate(expr: sympy.Expr, point: Mapping[sympy.Symbol, object], digits: int
     return result
 
 
-_MP_FUNCTIONS: dict[type, Callable] = {
-    sympy.sin: mpmath.sin,
-    sympy.cos: mpmath.cos,
-    sympy.tan: mpmath.tan,
-    sympy.exp: mpmath.exp,
-    sympy.log: mpmath.log,
-    sympy.sinh: mpmath.sinh,
-    sympy.cosh: mpmath.cosh,
-    sympy.tanh: mpmath.tanh,
-    sympy.asinh: mpmath.asinh,
-    sympy.acosh: mpmath.acosh,
-    sympy.atanh: mpmath.atanh,
-    sympy.atan: mpmath.atan,
-    sympy.asin: mpmath.asin,
-    sympy.acos: mpmath.acos,
-    sympy.Abs: abs,
-}
 
 
 def _compile(expr: sympy.Expr, variable: sympy.Symbol, constants: Mapping[sympy.Symbol, object]) -> Callable:
@@ -130,7 +115,7 @@ def _compile(expr: sympy.Expr, variable: sympy.Symbol, constants: Mapping[sympy.
             return lambda x: base(x) ** n
         power = _compile(expr.exp, variable, constants)
         return lambda x: mpmath.power(base(x), power(x))
-    function = _MP_FUNCTIONS.get(type(expr))
+    function = MPMATH_FUNCTIONS.get(type(expr))
     if function is not None and len(expr.args) == 1:
         inner = _compile(expr.args[0], variable, constants)
         return lambda x: function(inner(x))
