@@ -18,6 +18,7 @@ import sympy
 from crosscheck.claim import Claim
 from crosscheck.errors import DimensionError
 from crosscheck.results import Diagnosis, RouteOutcome
+from crosscheck.spacetimes import family
 from crosscheck.units import (
     Dimension,
     DimensionUnknown,
@@ -30,26 +31,15 @@ NAME = "dimensions"
 TITLE = "Dimensional consistency of the claim's two sides"
 
 LENGTH = Dimension(L=1)
-# Kinds of the built-in families' parameters: (geometric, SI) dimensions.
-_KINDS = {
+# Dimension of each parameter kind the families declare: (geometric, SI).
+KIND_DIMENSIONS = {
     "mass": (LENGTH, Dimension(M=1)),
     "charge": (LENGTH, Dimension(I=1, T=1)),
     "length": (LENGTH, LENGTH),
     "rate": (Dimension(L=-1), Dimension(T=-1)),
+    "acceleration": (Dimension(L=-1), Dimension(L=1, T=-2)),
     "curvature": (Dimension(L=-2), Dimension(L=-2)),
     "dimensionless": (Dimension(), Dimension()),
-}
-FAMILY_KINDS: dict[str, dict[str, str]] = {
-    "rindler": {"a": "rate"},
-    "schwarzschild": {"M": "mass"},
-    "reissner-nordstrom": {"M": "mass", "Q": "charge"},
-    "kerr": {"M": "mass", "a": "length"},
-    "kerr-newman": {"M": "mass", "a": "length", "Q": "charge"},
-    "de-sitter": {"H": "rate"},
-    "schwarzschild-de-sitter": {"M": "mass", "Lambda": "curvature"},
-    "schwarzschild-anti-de-sitter": {"M": "mass", "L": "length"},
-    "btz": {"M": "dimensionless", "l": "length"},
-    "charged-dilaton": {"M": "mass", "Q": "charge"},
 }
 
 
@@ -99,15 +89,17 @@ def _parameter_dimensions(claim: Claim) -> dict:
     return _inferred_dimensions(claim)
 
 
-def _family_dimensions(claim: Claim, family: str, symbols: dict) -> dict:
+def _kind_dimensions(kind: str, dim: int) -> tuple[Dimension, Dimension]:
+    if kind == "length^(dim-3)":
+        return Dimension(L=dim - 3), Dimension(L=dim - 3)
+    return KIND_DIMENSIONS[kind]
+
+
+def _family_dimensions(claim: Claim, name: str, symbols: dict) -> dict:
     """Family parameters have declared kinds; claim parameters follow from the bindings."""
     index = 0 if claim.units == "geometric" else 1
-    kinds = dict(FAMILY_KINDS.get(family, {}))
-    if family == "tangherlini":
-        dim = claim.spacetime.metric.dim
-        known = {"mu": (Dimension(L=dim - 3), Dimension(L=dim - 3))}
-    else:
-        known = {name: _KINDS[kind] for name, kind in kinds.items()}
+    dim = claim.spacetime.metric.dim
+    known = {symbol: _kind_dimensions(kind, dim) for symbol, kind in family(name).kinds}
     bound = dict(claim.derived)
     fixed, relations = {}, []
     for name, (geometric, si) in known.items():

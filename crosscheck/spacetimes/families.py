@@ -37,7 +37,10 @@ _TO_GEOMETRIC: dict[str, Callable[[sympy.Expr], sympy.Expr]] = {
     "charge": lambda q: q * sympy.sqrt(_SI["G"] / (4 * sympy.pi * _SI["epsilon_0"])) / _SI["c"] ** 2,  # C -> m
     "rate": lambda h: h / _SI["c"],  # 1/s -> 1/m
     "acceleration": lambda a: a / _SI["c"] ** 2,  # m/s^2 -> 1/m
-    "geometric": lambda x: x,  # already a length, 1/length^2, or a pure number
+    "length": lambda x: x,
+    "curvature": lambda x: x,  # 1/length^2
+    "dimensionless": lambda x: x,
+    "length^(dim-3)": lambda x: x,  # the Tangherlini mass parameter
 }
 
 Built = tuple[Metric, HorizonSpec, dict[str, sympy.Expr]]
@@ -57,6 +60,7 @@ class Family:
     source: str
     build: Build
     options: tuple[str, ...] = ()
+    kinds: tuple[tuple[str, str], ...] = ()  # (symbol, kind): what each parameter measures
 
 
 def _static_functions(metric: Metric) -> dict[str, sympy.Expr]:
@@ -112,6 +116,7 @@ def _static_family(
         source=source,
         build=build,
         options=("dim",) if dim else (),
+        kinds=tuple(symbols.items()),
     )
 
 
@@ -225,6 +230,7 @@ _FAMILY_LIST: list[Family] = [
         default_horizon="x = 0 (acceleration horizon); t is the proper time at x = 1/a",
         source="Rindler 1966; Wald 1984, sec. 6.4 (from memory)",
         build=_build_rindler,
+        kinds=(("a", "acceleration"),),
     ),
     _static_family(
         "schwarzschild",
@@ -257,7 +263,8 @@ _FAMILY_LIST: list[Family] = [
         ),
         default_horizon="r_+ = M + sqrt(M^2 - a^2)",
         source="Carroll 2004, eq. 6.70; Wald 1984, eq. 12.3.1 (from memory)",
-        build=_build_kerr_like({"M": "mass", "a": "geometric"}, "kerr"),
+        build=_build_kerr_like({"M": "mass", "a": "length"}, "kerr"),
+        kinds=(("M", "mass"), ("a", "length")),
     ),
     Family(
         name="kerr-newman",
@@ -271,7 +278,8 @@ _FAMILY_LIST: list[Family] = [
         ),
         default_horizon="r_+ = M + sqrt(M^2 - a^2 - Q^2)",
         source="Misner, Thorne & Wheeler 1973, sec. 33.2, eq. 33.2 (from memory)",
-        build=_build_kerr_like({"M": "mass", "a": "geometric", "Q": "charge"}, "kerr-newman"),
+        build=_build_kerr_like({"M": "mass", "a": "length", "Q": "charge"}, "kerr-newman"),
+        kinds=(("M", "mass"), ("a", "length"), ("Q", "charge")),
     ),
     _static_family(
         "de-sitter",
@@ -286,7 +294,7 @@ _FAMILY_LIST: list[Family] = [
     _static_family(
         "schwarzschild-de-sitter",
         "Schwarzschild-de Sitter (Kottler) black hole",
-        {"M": "mass", "Lambda": "geometric"},
+        {"M": "mass", "Lambda": "curvature"},
         lambda p, d: (1 - 2 * p["M"] / _r - p["Lambda"] * _r**2 / 3, None, None, None),
         lambda p, d: HorizonSpec(root="smallest"),
         line_element="-(1 - 2M/r - Lambda r^2/3) dt^2 + dr^2/(1 - 2M/r - Lambda r^2/3) + r^2 dOmega_2^2",
@@ -296,7 +304,7 @@ _FAMILY_LIST: list[Family] = [
     _static_family(
         "schwarzschild-anti-de-sitter",
         "Schwarzschild-anti-de Sitter black hole",
-        {"M": "mass", "L": "geometric"},
+        {"M": "mass", "L": "length"},
         lambda p, d: (1 - 2 * p["M"] / _r + _r**2 / p["L"] ** 2, None, None, None),
         lambda p, d: HorizonSpec(root="largest"),
         line_element="-(1 - 2M/r + r^2/L^2) dt^2 + dr^2/(1 - 2M/r + r^2/L^2) + r^2 dOmega_2^2",
@@ -306,7 +314,7 @@ _FAMILY_LIST: list[Family] = [
     _static_family(
         "btz",
         "BTZ black hole, non-rotating (2+1 dimensions)",
-        {"M": "geometric", "l": "geometric"},
+        {"M": "dimensionless", "l": "length"},
         lambda p, d: (-p["M"] + _r**2 / p["l"] ** 2, None, None, None),
         _expr(lambda p, d: p["l"] * sympy.sqrt(p["M"])),
         line_element="-(-M + r^2/l^2) dt^2 + dr^2/(-M + r^2/l^2) + r^2 dphi^2",
@@ -317,7 +325,7 @@ _FAMILY_LIST: list[Family] = [
     _static_family(
         "tangherlini",
         "Schwarzschild-Tangherlini black hole in dim dimensions",
-        {"mu": "geometric"},
+        {"mu": "length^(dim-3)"},
         lambda p, d: (1 - p["mu"] / _r ** (d - 3), None, None, None),
         _expr(lambda p, d: p["mu"] ** sympy.Rational(1, d - 3)),
         line_element="-(1 - mu/r^(dim-3)) dt^2 + dr^2/(1 - mu/r^(dim-3)) + r^2 dOmega_(dim-2)^2",
