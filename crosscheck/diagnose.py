@@ -236,12 +236,37 @@ def _power(fit: tuple[dict[str, Fraction], mpmath.mpf]) -> Diagnosis:
     )
 
 
-def _unidentified(ratios: list | None, offsets: list) -> Diagnosis:
+def _edge_hint(ratios: list, points, parameters: Sequence[Parameter]) -> str:
+    """Where the two sides meet only at one end of a parameter's range, say so.
+
+    The classic case: a formula for the uncharged hole used for a charged one
+    agrees at q = 0 and drifts away as q grows -- a dependence the claim lacks.
+    """
+    ones = [abs(r - 1) <= CONSTANT for r in ratios]
+    if all(ones) or not any(ones):
+        return ""
+    for parameter in parameters:
+        width = _mp(parameter.hi) - _mp(parameter.lo)
+        for end, label in ((parameter.lo, "lower"), (parameter.hi, "upper")):
+            near = [abs(_mp(_value_of(point, parameter.name)) - _mp(end)) <= width * mpmath.mpf("1e-4") for point in points]
+            if any(near) and all(one for one, close in zip(ones, near) if close) and not all(
+                one for one, close in zip(ones, near) if not close
+            ):
+                return (f"; they agree only where {parameter.name} is at the {label} end of its range "
+                        f"({parameter.name} = {end}): the claim may miss a dependence on {parameter.name}")
+    return ""
+
+
+def _value_of(point, name: str):
+    return next(value for key, value in point.items() if str(key) == name)
+
+
+def _unidentified(ratios: list | None, offsets: list, hint: str = "") -> Diagnosis:
     if ratios is not None:
         values = _real(ratios)
         if values is not None:
             lo, hi = mpmath.nstr(min(values), 8), mpmath.nstr(max(values), 8)
-            return Diagnosis("unidentified", f"no simple pattern: the ratio claim/route ranges from {lo} to {hi}")
+            return Diagnosis("unidentified", f"no simple pattern: the ratio claim/route ranges from {lo} to {hi}{hint}")
     values = _real(offsets) or [abs(v) for v in offsets]
     lo, hi = mpmath.nstr(min(values), 8), mpmath.nstr(max(values), 8)
     return Diagnosis("unidentified", f"no simple pattern: claim - route ranges from {lo} to {hi} (ratio undefined)")
@@ -297,4 +322,5 @@ def diagnose(
             known = identify_constant(offsets)
             value = known if known is not None else mpmath.nstr(offsets[0], 12)
             return Diagnosis("offset", f"additive offset: claim - route = {value} at every point", factor=value)
-        return _unidentified(ratios, offsets)
+        hint = _edge_hint(_real(ratios), points, parameters) if ratios is not None and _real(ratios) else ""
+        return _unidentified(ratios, offsets, hint)

@@ -86,6 +86,8 @@ def test_charge_dependence_missed_only_at_large_charge():
     """
     outcome = outcome_of(text)
     assert outcome.status == "contradicted"
+    for diagnosis in route_diagnoses(outcome).values():
+        assert "may miss a dependence on q" in diagnosis.text
 
 
 def test_wrong_killing_normalisation_between_two_horizons():
