@@ -180,3 +180,18 @@ def test_detector_section_is_parsed(claim_file):
     assert detector.trajectory == "uniform-acceleration" and claims[0].spectrum == "bose"
     error = only_error(claim_file(text.replace("acceleration: a", "radius: a")))
     assert "not a parameter of 'uniform-acceleration'" in error.message
+
+
+def test_python_tags_are_never_constructed(claim_file, tmp_path):
+    # PITFALLS.md: only safe-loader semantics; a python tag must not run anything.
+    marker = tmp_path / "tagged"
+    text = GOOD.replace("claim: T = 1/(8*pi*M)", f"claim: !!python/object/apply:os.system ['touch {marker}']")
+    error = only_error(claim_file(text))
+    assert error.field == "claim" and not marker.exists()
+
+
+def test_huge_file_and_billion_laughs_rejected(claim_file):
+    laughs = "a: &a [x, x]\nb: &b [*a, *a]\nc: &c [*b, *b]\n"
+    assert "aliases" in only_error(claim_file(laughs)).message
+    error = only_error(claim_file("notes: " + "x" * (300 * 1024) + "\n"))
+    assert "larger than" in error.message
