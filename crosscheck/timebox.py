@@ -5,6 +5,12 @@ runs unlimited).  Limits nest: an inner limit never extends an outer one, and
 the outer alarm is re-armed with the time it has left.  The exception raised
 derives from BaseException so that library code's `except Exception` cannot
 swallow it.
+
+An exception raised by a signal handler can still be lost when the signal
+lands in a context that discards exceptions (a garbage-collector callback, a
+`__del__` method).  So once the limit is reached the alarm repeats every
+REPEAT seconds until the work stops; the handler does nothing after the
+limited block has finished.
 """
 
 from __future__ import annotations
@@ -16,6 +22,7 @@ from collections.abc import Callable
 from typing import TypeVar
 
 _T = TypeVar("_T")
+REPEAT = 0.05
 
 
 class OutOfTime(BaseException):
@@ -29,18 +36,21 @@ def run_limited(func: Callable[[], _T], seconds: float, exception: type[BaseExce
     usable = hasattr(signal, "setitimer") and threading.current_thread() is threading.main_thread()
     if not usable:
         return func()
+    finished = False
 
     def on_alarm(signum, frame):
-        raise exception()
+        if not finished:
+            raise exception()
 
     started = time.monotonic()
     previous_handler = signal.signal(signal.SIGALRM, on_alarm)
     outer_delay, outer_interval = signal.setitimer(signal.ITIMER_REAL, 0)
     limit = min(seconds, outer_delay) if outer_delay > 0 else seconds
     try:
-        signal.setitimer(signal.ITIMER_REAL, limit)
+        signal.setitimer(signal.ITIMER_REAL, limit, REPEAT)
         return func()
     finally:
+        finished = True
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, previous_handler)
         if outer_delay > 0:
