@@ -12,7 +12,7 @@ from collections.abc import Callable, Collection, Mapping
 
 import sympy
 
-from crosscheck.errors import ClaimError, ExprError
+from crosscheck.errors import ExprError
 from crosscheck.expr import parse_expression
 from crosscheck.yamlnodes import Loc, YMap, YNode, YScalar, YSeq
 
@@ -130,6 +130,3 @@ def pair(node: YNode, field: str, reader: Callable[[YNode, str], sympy.Expr]) ->
         raise seq.loc.error(field, f"expected [lo, hi], got a list of {len(seq.items)}")
     return reader(seq.items[0], f"{field}[0]"), reader(seq.items[1], f"{field}[1]")
 
-
-def fail(node: YNode, field: str, message: str) -> ClaimError:
-    return node.loc.error(field, message)

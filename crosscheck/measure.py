@@ -29,7 +29,3 @@ class Measured:
         if magnitude == 0:
             return mpmath.mpf(0) if self.error == 0 else mpmath.inf
         return self.error / magnitude
-
-    def as_floats(self) -> tuple[float, float]:
-        """(value, error) as Python floats, for reports."""
-        return float(mpmath.re(self.value)), float(self.error)

@@ -8,7 +8,7 @@ outcome nobody edits it.
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass, field
 from typing import Literal
 
 RouteStatus = Literal["agree", "disagree", "inconclusive", "not-applicable", "error", "timeout"]
@@ -101,6 +101,3 @@ class ClaimOutcome:
     sources: tuple[str, ...] = ()
     seconds: float = 0.0
     error: str | None = None
-
-    def to_dict(self) -> dict:
-        return asdict(self)
