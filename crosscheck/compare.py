@@ -64,6 +64,11 @@ def _strata(lo: Fraction, hi: Fraction, n: int) -> list[Fraction]:
     return [lo + (hi - lo) * (END_OFFSET + Fraction(k, n - 1) * (1 - 2 * END_OFFSET)) for k in range(n)]
 
 
+def mp_point(point: Mapping[sympy.Symbol, sympy.Rational]) -> dict[sympy.Symbol, mpmath.mpf]:
+    """A sample point as mpmath numbers at the current precision (exact p/q division)."""
+    return {s: mpmath.mpf(v.p) / v.q for s, v in point.items()}
+
+
 def sample_points(
     parameters: Sequence[Parameter], n: int = 5, seed: int = 0
 ) -> list[dict[sympy.Symbol, sympy.Rational]]:

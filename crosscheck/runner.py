@@ -200,18 +200,19 @@ def _dim(claim: Claim) -> int:
 # -- numeric side ------------------------------------------------------------------------------
 def _numeric_side(claim, route, problem, options, notes):
     points = compare.sample_points(claim.parameters, options.samples, options.seed)
-    last: list[NumericResult] = []
+    first: list[NumericResult] = []  # the first point's result, kept for evidence and provenance
 
     def provider(point):
         result = _to_claim_units_numeric(route.numeric(problem, point, options.digits), claim)
-        last.append(result)
+        if not first:
+            first.append(result)
         return result
 
     evaluator = NumericEvaluator(provider, options.digits)
     route_values, claim_values, used = [], [], []
     with mpmath.workdps(options.digits + 10):
         for point in points:
-            numeric_point = {s: mpmath.mpf(v.p) / v.q for s, v in point.items()}
+            numeric_point = compare.mp_point(point)
             try:
                 route_values.append(evaluator.evaluate(claim.lhs, numeric_point))
                 claim_values.append(evaluator.evaluate(claim.rhs, numeric_point))
@@ -220,7 +221,7 @@ def _numeric_side(claim, route, problem, options, notes):
                 return (), None, points, None
             used.append(point)
     rows = compare.numeric_rows(used, route_values, claim_values, claim.tolerance, scaling=claim.agreement == "scaling")
-    return rows, (last[0] if last else None), used, (route_values, claim_values)
+    return rows, (first[0] if first else None), used, (route_values, claim_values)
 
 
 def _to_claim_units_numeric(result: NumericResult, claim: Claim) -> NumericResult:

@@ -17,6 +17,7 @@ import mpmath
 import sympy
 
 from crosscheck.claim import Claim
+from crosscheck.compare import mp_point
 from crosscheck.spacetimes.base import Normalization
 from crosscheck.spacetimes.normalize import normalization_factor_numeric
 
@@ -50,7 +51,7 @@ def _ratios(spacetime, alternative: Normalization, points, digits: int) -> list 
     try:
         with mpmath.workdps(digits + 10):
             for point in points:
-                numeric = {s: mpmath.mpf(v.p) / v.q for s, v in point.items()}
+                numeric = mp_point(point)
                 mine = normalization_factor_numeric(spacetime, numeric, digits).value
                 theirs = normalization_factor_numeric(other, numeric, digits).value
                 values.append(theirs / mine)
