@@ -25,7 +25,7 @@ from crosscheck.errors import CannotCompute, ClaimError
 from crosscheck.evaluate import NumericEvaluator, substitute_symbolic
 from crosscheck.measure import Measured
 from crosscheck.results import ClaimOutcome, Diagnosis, RouteOutcome, SymbolicCheck
-from crosscheck.routes.base import NumericResult, Problem, Route, SymbolicResult
+from crosscheck.routes.base import NumericResult, Problem, Route, SymbolicResult, claim_kind, route_scope
 from crosscheck.suspects import suspicious_factors
 from crosscheck.timebox import OutOfTime, run_limited
 
@@ -103,6 +103,9 @@ def invalid_outcome(error: ClaimError) -> ClaimOutcome:
 def run_route(claim: Claim, route: Route, problem: Problem, options: RunOptions) -> RouteOutcome:
     """One route on one claim, isolated: nothing it raises escapes."""
     base = RouteOutcome(route=route.name, title=route.title, grade=route.grade, status="not-applicable")
+    kind = claim_kind(problem)
+    if kind not in route_scope(route):
+        return dataclasses.replace(base, reason=f"checks {' and '.join(sorted(route_scope(route)))} claims, not {kind} claims")
     missing = sorted(claim.observables - route.observables)
     if missing:
         return dataclasses.replace(base, reason=f"does not compute {', '.join(missing)}")

@@ -82,6 +82,19 @@ class NumericResult:
     provenance: tuple[str, ...] = ()
 
 
+DEFAULT_SCOPE = frozenset({"horizon"})
+
+
+def claim_kind(problem: Problem) -> str:
+    """'detector' for a claim with a detector worldline, else 'horizon'."""
+    return "detector" if problem.detector is not None else "horizon"
+
+
+def route_scope(route: object) -> frozenset[str]:
+    """The kinds of claim a route checks (DEFAULT_SCOPE when it does not say)."""
+    return frozenset(getattr(route, "scope", DEFAULT_SCOPE))
+
+
 @runtime_checkable
 class Route(Protocol):
     """What every route provides.  See DEVELOPERS.md, "Adding a route"."""
@@ -91,6 +104,10 @@ class Route(Protocol):
     grade: ClassVar[Literal["exact", "estimate"]]
     observables: ClassVar[frozenset[str]]
     version: ClassVar[str]
+    # Optional: which claims the route checks, {"horizon"}, {"detector"} or both.
+    # A claim with a `detector:` section is a detector claim (its T is what the
+    # detector sees).  Routes without the attribute check horizon claims only.
+    # scope: ClassVar[frozenset[str]]
 
     def applies(self, problem: Problem) -> str | None:
         """None when the route can handle the problem, else the reason it cannot."""
