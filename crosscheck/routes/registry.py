@@ -24,6 +24,8 @@ DISABLE_ENV = "CROSSCHECK_NO_PLUGINS"
 BUILTIN: dict[str, str] = {
     "killing-horizon": "crosscheck.routes.killing_horizon:KillingHorizonRoute",
     "near-horizon": "crosscheck.routes.near_horizon:NearHorizonRoute",
+    "ray-peeling": "crosscheck.routes.ray_peeling:RayPeelingRoute",
+    "bogoliubov": "crosscheck.routes.bogoliubov:BogoliubovRoute",
 }
 REQUIRED_ATTRIBUTES = ("name", "title", "grade", "observables", "applies", "symbolic", "numeric")
 
