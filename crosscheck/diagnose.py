@@ -198,6 +198,33 @@ def _candidate_match(ratios: list, candidates: Mapping[str, list], constant: boo
     return None
 
 
+class Suspect(list):
+    """Per-point values of a suspicious factor, with the kind of mistake it stands for.
+
+    A plain sequence of values in `diagnose(candidates=...)` is a Killing
+    normalisation suspect (the original meaning); a `Suspect` says what else it
+    is -- kind 'horizon' for "the claim is the same quantity at another horizon"
+    -- so that the diagnosis names the mistake instead of calling every
+    non-constant ratio a normalisation.
+    """
+
+    def __init__(self, values: Sequence, kind: str = "normalization") -> None:
+        super().__init__(values)
+        self.kind = kind
+
+
+def _suspect(match: tuple[str, bool], kinds: Mapping[str, str]) -> Diagnosis:
+    """The diagnosis for a matching candidate, worded by its kind."""
+    name, inverted = match
+    if kinds.get(name) == "horizon":
+        if inverted:  # the route, not the claim, is at the other horizon: still worth saying
+            text = f"wrong horizon: route/claim (not claim/route) is the ratio of the quantity at two horizons ({name})"
+            return Diagnosis("horizon", text)
+        text = f"wrong horizon: {name}: claim/route is the ratio of the quantity at the two horizons at every point"
+        return Diagnosis("horizon", text)
+    return _normalization(match)
+
+
 def _normalization(match: tuple[str, bool]) -> Diagnosis:
     name, inverted = match
     if inverted:
@@ -207,16 +234,16 @@ def _normalization(match: tuple[str, bool]) -> Diagnosis:
     return Diagnosis("normalization", text, factor=name)
 
 
-def _constant_factor(ratios: list, candidates: Mapping[str, list]) -> Diagnosis:
+def _constant_factor(ratios: list, candidates: Mapping[str, list], kinds: Mapping[str, str]) -> Diagnosis:
     known = identify_constant(ratios)
     match = _candidate_match(ratios, candidates, constant=True)
     if known is not None:
-        text = f"constant factor {known}: the claim is {known} times the route's value"
+        text = f"constant factor {known}: the claim is {known} times the route's value (claim/route = {known})"
         if match is not None:
             text += f" (the expected suspect '{match[0]}')"
         return Diagnosis("factor", text, factor=known)
     if match is not None:
-        return _normalization(match)
+        return _suspect(match, kinds)
     value = mpmath.nstr(ratios[0], 12)
     return Diagnosis("factor", f"constant factor {value} (not a simple multiple of pi, sqrt(2), sqrt(3))", factor=value)
 
@@ -284,8 +311,9 @@ def diagnose(
     """Explain a disagreement from the two sides' values at the sample points.
 
     Order (first match wins): sign flip; non-constant `candidates` (known
-    suspicious factors such as a Killing normalisation, name -> values at the
-    points); a constant ratio, identified among simple constants (constant
+    suspicious factors such as a Killing normalisation or the same quantity
+    at another horizon, name -> values at the points; a `Suspect` carries its
+    kind, plain sequences are normalisations); a constant ratio, identified among simple constants (constant
     candidates named when they match); a power law in the varying positive
     parameters; an additive offset; otherwise 'unidentified' with the range
     of the ratio.
@@ -298,11 +326,12 @@ def diagnose(
     with mpmath.workdps(digits):
         route = [_mp(v) for v in route_values]
         claim = [_mp(v) for v in claim_values]
-        suspects = {}
+        suspects, kinds = {}, {}
         for name, values in (candidates or {}).items():
             if len(values) != len(points):
                 raise ValueError(f"diagnose: candidate {name!r} has {len(values)} values for {len(points)} points")
             suspects[name] = [_mp(v) for v in values]
+            kinds[name] = getattr(values, "kind", "normalization")
         offsets = [c - r for c, r in zip(claim, route)]
         ratios = None if any(r == 0 for r in route) else [c / r for c, r in zip(claim, route)]
         if ratios is not None:
@@ -310,9 +339,9 @@ def diagnose(
                 return Diagnosis("sign", "sign flip: the claim is minus the route's value", factor="-1")
             match = _candidate_match(ratios, suspects, constant=False)
             if match is not None:
-                return _normalization(match)
+                return _suspect(match, kinds)
             if _spread(ratios) <= CONSTANT:
-                return _constant_factor(ratios, suspects)
+                return _constant_factor(ratios, suspects, kinds)
             reals = _real(ratios)
             if reals is not None:
                 fit = _fit_power(reals, _parameter_columns(points, parameters))

@@ -179,3 +179,28 @@ def test_compare_reexports_diagnose_and_rejects_mismatched_lengths():
         diagnose(POINTS, ROUTE[:2], ROUTE, PARAMS)
     with pytest.raises(ValueError):
         diagnose(POINTS, ROUTE, ROUTE, PARAMS, candidates={"short": [1]})
+
+
+# -- kinds of suspects (wrong horizon) and the ratio in the factor text -----------------------
+
+
+def test_horizon_suspect_is_named_as_a_wrong_horizon():
+    # Source: RN kappa_-/kappa_+ = r_+^2/r_-^2 (Wald 1984, sec. 12.5; from memory), with
+    # r_+- = M +- sqrt(M^2 - a^2) standing in for the charge a here.
+    from crosscheck.diagnose import Suspect
+
+    ratios = values_at(lambda m, q: ((m + mpmath.sqrt(m**2 + q**2)) / (m - mpmath.sqrt(m**2 + q**2))) ** 2)
+    with mpmath.workdps(DIGITS + 10):
+        claim = [r * x for r, x in zip(ROUTE, ratios)]
+    name = "the claim matches the inner horizon r_- (root 1 of 2)"
+    as_horizon = diagnose(POINTS, ROUTE, claim, PARAMS, candidates={name: Suspect(ratios, "horizon")}, digits=DIGITS)
+    assert as_horizon.kind == "horizon" and name in as_horizon.text
+    # A plain sequence keeps its original meaning: a normalisation suspect.
+    as_plain = diagnose(POINTS, ROUTE, claim, PARAMS, candidates={name: list(ratios)}, digits=DIGITS)
+    assert as_plain.kind == "normalization"
+
+
+def test_constant_factor_text_states_the_ratio():
+    # Source: the estimate T ~ 1/r_h against Hawking's 1/(8 pi M): claim/route = 1/(4 pi) (PHYSICS.md).
+    diagnosis = diagnose(POINTS, ROUTE, claim_times(lambda m, q: 1 / (4 * mpmath.pi)), PARAMS, digits=DIGITS)
+    assert "claim/route = 1/(4*pi)" in diagnosis.text

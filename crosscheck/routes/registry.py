@@ -26,6 +26,8 @@ BUILTIN: dict[str, str] = {
     "near-horizon": "crosscheck.routes.near_horizon:NearHorizonRoute",
     "ray-peeling": "crosscheck.routes.ray_peeling:RayPeelingRoute",
     "bogoliubov": "crosscheck.routes.bogoliubov:BogoliubovRoute",
+    "dimensional-estimate": "crosscheck.routes.dimensional_estimate:DimensionalEstimateRoute",
+    "first-law": "crosscheck.routes.first_law:FirstLawRoute",
 }
 REQUIRED_ATTRIBUTES = ("name", "title", "grade", "observables", "applies", "symbolic", "numeric")
 
