@@ -156,7 +156,7 @@ def read_claim(node: YNode, known_routes: Collection[str] | None = None) -> Clai
     spacetime, metric_names = None, {}
     if "spacetime" in body.items:
         spacetime, metric_names = read_spacetime(body.items["spacetime"], names, units)
-    detector = read_detector(body.items["detector"], names) if "detector" in body.items else None
+    detector = read_detector(body.items["detector"], names, body.items.get("band")) if "detector" in body.items else None
     lhs, rhs, text, observables, line, column = _read_equation(body, names, metric_names, parameters)
     dimension_sides = None
     if units == "si" and "claim" in body.items:

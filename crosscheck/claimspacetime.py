@@ -49,6 +49,8 @@ TRAJECTORY_ARGUMENTS = {
     "static": ("radius",),
     "infall": ("from",),
 }
+# Optional trajectory parameters: uniform acceleration with a transverse drift velocity.
+TRAJECTORY_OPTIONAL = {"uniform-acceleration": ("velocity",)}
 
 
 def read_spacetime(
@@ -237,12 +239,14 @@ def _normalization(section: YMap, names, metric: Metric) -> Normalization:
     return Normalization("radius", radius)
 
 
-def read_detector(node: YNode, names: Mapping[str, sympy.Basic]) -> Detector:
-    """The detector worldline; its routes come with the detector work."""
+def read_detector(node: YNode, names: Mapping[str, sympy.Basic], band: YNode | None = None) -> Detector:
+    """The detector worldline.  The claim's `band:` (gap over the natural scale), when
+    given, travels with it as arguments band_low/band_high so that routes see it."""
     body = fields.expect_map(node, "detector")
     fields.check_keys(body, "detector", DETECTOR_KEYS, required=("trajectory",))
     trajectory = fields.choice(body.items["trajectory"], "detector.trajectory", TRAJECTORY_ARGUMENTS)
-    expected = TRAJECTORY_ARGUMENTS[trajectory]
+    required = TRAJECTORY_ARGUMENTS[trajectory]
+    expected = required + TRAJECTORY_OPTIONAL.get(trajectory, ())
     arguments: dict[str, sympy.Expr] = {}
     for key in DETECTOR_KEYS - {"trajectory", "field", "coupling"}:
         if key not in body.items:
@@ -255,9 +259,14 @@ def read_detector(node: YNode, names: Mapping[str, sympy.Basic]) -> Detector:
             arguments[key] = sympy.Symbol(fields.choice(body.items[key], "detector.from", ("rest-at-infinity",)))
             continue
         arguments[key] = fields.expression(body.items[key], f"detector.{key}", names)
-    for key in expected:
+    for key in required:
         if key not in arguments and key != "from":
             raise body.loc.error("detector", f"trajectory '{trajectory}' needs '{key}'")
+    if band is not None:
+        low, high = fields.pair(band, "band", fields.number)
+        if not 0 < low < high:
+            raise band.loc.error("band", f"expected [lo, hi] with 0 < lo < hi, got [{low}, {high}]")
+        arguments["band_low"], arguments["band_high"] = low, high
     field_name = (
         fields.choice(body.items["field"], "detector.field", ("massless-scalar",)) if "field" in body.items else "massless-scalar"
     )

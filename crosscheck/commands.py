@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import html
 import platform
 import shlex
+import signal
 import sys
 import time
 from collections.abc import Sequence
@@ -14,10 +16,10 @@ from crosscheck.cli import ExitCode
 from crosscheck.errors import ClaimError
 from crosscheck.oneoff import one_off_claim
 from crosscheck.report import terminal
-from crosscheck.report.files import write_atomic
+from crosscheck.report.files import write_report
 from crosscheck.results import ClaimOutcome
 from crosscheck.routes.registry import load_routes, select
-from crosscheck.runner import RunOptions, invalid_outcome, run_claims
+from crosscheck.runner import RunOptions, invalid_outcome
 
 
 def _options(args) -> RunOptions:
@@ -44,12 +46,58 @@ def _versions() -> dict[str, str]:
     }
 
 
-def _run_info(options: RunOptions) -> dict:
-    return {
+def _run_info(options: RunOptions, args=None, result=None) -> dict:
+    info = {
         "command": "crosscheck " + " ".join(shlex.quote(a) for a in sys.argv[1:]),
         "versions": _versions(),
         "options": {"samples": options.samples, "digits": options.digits, "seed": options.seed, "timeout": options.timeout},
     }
+    if args is not None:
+        info["options"].update(memory_mb=args.memory, jobs=_jobs(args), scheduler=args.scheduler)
+    if result is not None:
+        info.update(complete=result.complete, unfinished=list(result.unfinished), stopped_by=result.stopped_by,
+                    cache={"path": None if args.no_cache else _cache_path(args), "hits": result.cached,
+                           "computed": result.computed})
+    return info
+
+
+def _jobs(args) -> int:
+    from crosscheck.workers import default_jobs
+
+    return default_jobs() if args.jobs is None else args.jobs
+
+
+def _cache_path(args) -> str:
+    from crosscheck.cache import DEFAULT_PATH
+
+    return args.cache or DEFAULT_PATH
+
+
+class _StartError(Exception):
+    """The workers could not be started (a usage problem: exit code 2)."""
+
+
+def _execute(claims, routes, options: RunOptions, args, on_result=None):
+    """Run the claims with the executor, cache and progress display the options ask for."""
+    from crosscheck.cache import Cache
+    from crosscheck.progress import Progress
+    from crosscheck.scheduler import make_executor, run_all
+    from crosscheck.workers import Limits
+
+    try:
+        executor = make_executor(_jobs(args), Limits(timeout=options.timeout, memory_mb=args.memory), args.scheduler)
+    except (RuntimeError, OSError, ValueError) as exc:  # no Dask installed, or its scheduler unreachable
+        raise _StartError(str(exc)) from exc
+    cache = None if args.no_cache else Cache(_cache_path(args))
+    try:
+        return run_all(claims, routes, options, executor, cache=cache, progress=Progress(len(claims), 0),
+                       on_result=on_result)
+    finally:
+        executor.shutdown(wait=True)
+        if cache is not None:
+            cache.close()
+            for note in cache.notes:
+                print(f"warning: {note}", file=sys.stderr)
 
 
 def _print_outcome(outcome: ClaimOutcome) -> None:
@@ -84,20 +132,58 @@ def run_command(args, started: float) -> ExitCode:
         print(f"crosscheck: no claim files found in {' '.join(args.paths)}", file=sys.stderr)
         return ExitCode.INPUT_ERROR
     options = _options(args)
-    outcomes.extend(run_claims(loaded.claims, routes, options, on_result=_print_outcome))
+    try:
+        result = _execute(loaded.claims, routes, options, args, on_result=_print_outcome)
+    except _StartError as exc:
+        print(f"crosscheck: cannot start the workers: {exc}", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    outcomes.extend(result.outcomes)
     seconds = time.perf_counter() - started
-    print(terminal.summary(outcomes, seconds))
-    info = _run_info(options)
-    if args.json:
-        from crosscheck.report.json_report import to_json
+    print(" ".join(filter(None, [terminal.summary(outcomes, seconds), terminal.cache_note(result.cached, result.computed)])))
+    if not result.complete:
+        print(terminal.incomplete_line(result.stopped_by, result.unfinished), file=sys.stderr)
+    _write_reports(args, outcomes, _run_info(options, args, result), result.complete)
+    if not result.complete:
+        return 128 + getattr(signal.Signals, result.stopped_by or "SIGINT", signal.SIGINT)
+    return exit_code(outcomes, args.strict)
 
-        write_atomic(args.json, to_json(outcomes, info))
+
+HTML_INCOMPLETE_MARK = "data-crosscheck-incomplete"
+
+
+def _write_reports(args, outcomes: Sequence[ClaimOutcome], info: dict, complete: bool) -> None:
+    """JSON and HTML, each atomically; an incomplete report keeps a complete earlier one aside."""
+    if args.json:
+        from crosscheck.report.json_report import INCOMPLETE_MARK, to_json
+
+        _note_kept(write_report(args.json, to_json(outcomes, info, complete=complete), complete, INCOMPLETE_MARK))
     if args.html:
         from crosscheck.report.html import to_html
 
-        write_atomic(args.html, to_html(outcomes, info))
+        page = to_html(outcomes, info)
+        if not complete:
+            page = _mark_incomplete_html(page, info)
+        _note_kept(write_report(args.html, page, complete, HTML_INCOMPLETE_MARK))
         print(f"HTML report: {args.html}")
-    return exit_code(outcomes, args.strict)
+    if getattr(args, "junit", None):
+        from crosscheck.report.junit import write_junit
+
+        write_junit(outcomes, args.junit)
+
+
+def _note_kept(kept: str | None) -> None:
+    if kept:
+        print(f"the earlier complete report is kept as {kept}", file=sys.stderr)
+
+
+def _mark_incomplete_html(page: str, info: dict) -> str:
+    """A banner at the top of the page (our own text, escaped): the run was stopped early."""
+    unfinished = info.get("unfinished") or []
+    text = terminal.incomplete_line(info.get("stopped_by"), unfinished)
+    banner = (f'<p {HTML_INCOMPLETE_MARK} style="background:#f8dcdc;padding:.5rem;font-weight:bold">'
+              f"{html.escape(text)}. This report is incomplete.</p>")
+    head, found, tail = page.partition("<body>")
+    return head + found + "\n" + banner + tail if found else banner + page
 
 
 def check_command(args, started: float) -> ExitCode:
@@ -113,7 +199,15 @@ def check_command(args, started: float) -> ExitCode:
     except ClaimError as exc:
         print(str(exc), file=sys.stderr)
         return ExitCode.INPUT_ERROR
-    [outcome] = run_claims([claim], routes, _options(args))
+    try:
+        result = _execute([claim], routes, _options(args), args)
+    except _StartError as exc:
+        print(f"crosscheck: cannot start the workers: {exc}", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    if not result.complete:
+        print(terminal.incomplete_line(result.stopped_by, result.unfinished), file=sys.stderr)
+        return 128 + getattr(signal.Signals, result.stopped_by or "SIGINT", signal.SIGINT)
+    [outcome] = result.outcomes
     print(terminal.claim_line(outcome))
     for route in outcome.routes:
         if route.status == "not-applicable":
@@ -126,6 +220,21 @@ def check_command(args, started: float) -> ExitCode:
             print(f"    {route.reason}")
     print(f"({time.perf_counter() - started:.1f} s)")
     return exit_code([outcome], strict=False)
+
+
+def cache_command(args, started: float) -> ExitCode:
+    from crosscheck.cache import CacheUnusable, clear_cache
+
+    path = _cache_path(args)
+    try:
+        print(clear_cache(path))
+    except CacheUnusable as exc:
+        print(f"crosscheck: {path} {exc}; not a crosscheck cache, so it is left alone", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    except OSError as exc:
+        print(f"crosscheck: cannot clear {path}: {exc}", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    return ExitCode.OK
 
 
 def routes_command(args, started: float) -> ExitCode:
@@ -147,3 +256,25 @@ def spacetimes_command(args, started: float) -> ExitCode:
         print(f"    ds^2 = {info['line_element']}")
         print(f"    horizon: {info['default_horizon']}")
     return ExitCode.OK
+
+
+def explain_command(args, started: float) -> int:
+    """`crosscheck explain FILE --latex|--markdown`: a section a referee can read."""
+    from crosscheck.explain import run_explain
+
+    names = [n.strip() for n in args.routes.split(",") if n.strip()] if args.routes else None
+    return run_explain(args.path, args.format, args.output, _options(args), names)
+
+
+def new_command(args, started: float) -> int:
+    """`crosscheck new --spacetime NAME --observable OBS`: a claim file to fill in."""
+    from crosscheck.scaffold import run_new
+
+    return run_new(args.spacetime, args.observable, args.output)
+
+
+def schema_command(args, started: float) -> int:
+    """`crosscheck schema`: the JSON Schema of the claim format."""
+    from crosscheck.schema import write_schema
+
+    return write_schema(args.output)

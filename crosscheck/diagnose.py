@@ -14,6 +14,7 @@ precision and evaluates strings (PITFALLS.md), so it is not used.
 
 from __future__ import annotations
 
+import contextvars
 from collections.abc import Mapping, Sequence
 from fractions import Fraction
 from functools import lru_cache
@@ -33,6 +34,21 @@ CONFIRM = 1e-10
 POWER_RESIDUAL = 1e-8
 #: A fitted exponent must be this close to a rational with denominator <= 6.
 EXPONENT_SNAP = 1e-6
+#: The route's own relative error (times 10) while a diagnosis runs: values known to 1e-7
+#: (a fitted temperature) cannot show a ratio constant to 1e-8.  Set by `diagnose`.
+_SLACK: contextvars.ContextVar[float] = contextvars.ContextVar("diagnosis_slack", default=0.0)
+
+
+def _constant_tolerance() -> float:
+    return max(CONSTANT, _SLACK.get())
+
+
+def _confirm_tolerance() -> float:
+    return max(CONFIRM, _SLACK.get())
+
+
+def _power_tolerance() -> float:
+    return max(POWER_RESIDUAL, _SLACK.get())
 
 
 def _mp(value: object):
@@ -111,9 +127,9 @@ def identify_constant(values: Sequence) -> str | None:
     except OverflowError:
         return None
     for value, p, q, k, j2, j3 in _constant_table():
-        if abs(value - target) <= CONFIRM * abs(target):
+        if abs(value - target) <= _confirm_tolerance() * abs(target):
             exact = _constant_value(p, q, k, j2, j3)
-            if all(abs(v - exact) <= CONFIRM * abs(exact) for v in reals):
+            if all(abs(v - exact) <= _confirm_tolerance() * abs(exact) for v in reals):
                 return _constant_text(p, q, k, j2, j3)
     return None
 
@@ -142,7 +158,7 @@ def _parameter_columns(points, parameters: Sequence[Parameter]) -> dict[str, lis
             values.append(_mp(by_name[parameter.name]))
         else:
             reals = _real(values)
-            if reals and all(v > 0 for v in reals) and _spread(reals) > CONSTANT:
+            if reals and all(v > 0 for v in reals) and _spread(reals) > _constant_tolerance():
                 columns[parameter.name] = reals
     return columns
 
@@ -167,7 +183,7 @@ def _fit_power(ratios: list, columns: dict[str, list]) -> tuple[dict[str, Fracti
     if min(singular) <= mpmath.mpf(1e-12) * max(singular):
         return None  # the sample points cannot separate the parameters' powers
     solution, residual = mpmath.qr_solve(a, b)
-    if residual >= POWER_RESIDUAL:
+    if residual >= _power_tolerance():
         return None
     exponents = {}
     for col, name in enumerate(names, start=1):
@@ -189,11 +205,11 @@ def _fit_power(ratios: list, columns: dict[str, list]) -> tuple[dict[str, Fracti
 def _candidate_match(ratios: list, candidates: Mapping[str, list], constant: bool) -> tuple[str, bool] | None:
     """(name, inverted) of the first candidate whose values (or inverses) equal the ratios."""
     for name, values in candidates.items():
-        if (_spread(values) <= CONSTANT) != constant or any(v == 0 for v in values):
+        if (_spread(values) <= _constant_tolerance()) != constant or any(v == 0 for v in values):
             continue
-        if _all_close(ratios, values, CONSTANT):
+        if _all_close(ratios, values, _constant_tolerance()):
             return name, False
-        if _all_close(ratios, [1 / v for v in values], CONSTANT):
+        if _all_close(ratios, [1 / v for v in values], _constant_tolerance()):
             return name, True
     return None
 
@@ -269,7 +285,7 @@ def _edge_hint(ratios: list, points, parameters: Sequence[Parameter]) -> str:
     The classic case: a formula for the uncharged hole used for a charged one
     agrees at q = 0 and drifts away as q grows -- a dependence the claim lacks.
     """
-    ones = [abs(r - 1) <= CONSTANT for r in ratios]
+    ones = [abs(r - 1) <= _constant_tolerance() for r in ratios]
     if all(ones) or not any(ones):
         return ""
     for parameter in parameters:
@@ -307,6 +323,7 @@ def diagnose(
     *,
     candidates: Mapping[str, Sequence] | None = None,
     digits: int = 30,
+    relative_error: float = 0.0,
 ) -> Diagnosis:
     """Explain a disagreement from the two sides' values at the sample points.
 
@@ -316,8 +333,18 @@ def diagnose(
     kind, plain sequences are normalisations); a constant ratio, identified among simple constants (constant
     candidates named when they match); a power law in the varying positive
     parameters; an additive offset; otherwise 'unidentified' with the range
-    of the ratio.
+    of the ratio.  `relative_error` is the route values' own relative error:
+    the tolerances widen to ten times it, so a fitted value is still recognised.
     """
+    token = _SLACK.set(10 * float(relative_error))
+    try:
+        return _diagnose(points, route_values, claim_values, parameters, candidates, digits)
+    finally:
+        _SLACK.reset(token)
+
+
+def _diagnose(points, route_values, claim_values, parameters, candidates, digits) -> Diagnosis:
+    """`diagnose` with the tolerances already set."""
     if not (len(points) == len(route_values) == len(claim_values)) or not points:
         raise ValueError(
             f"diagnose: need equally many (> 0) points and values, got {len(points)}, "
@@ -335,19 +362,19 @@ def diagnose(
         offsets = [c - r for c, r in zip(claim, route)]
         ratios = None if any(r == 0 for r in route) else [c / r for c, r in zip(claim, route)]
         if ratios is not None:
-            if _all_close(ratios, [-1] * len(ratios), CONSTANT):
+            if _all_close(ratios, [-1] * len(ratios), _constant_tolerance()):
                 return Diagnosis("sign", "sign flip: the claim is minus the route's value", factor="-1")
             match = _candidate_match(ratios, suspects, constant=False)
             if match is not None:
                 return _suspect(match, kinds)
-            if _spread(ratios) <= CONSTANT:
+            if _spread(ratios) <= _constant_tolerance():
                 return _constant_factor(ratios, suspects, kinds)
             reals = _real(ratios)
             if reals is not None:
                 fit = _fit_power(reals, _parameter_columns(points, parameters))
                 if fit is not None:
                     return _power(fit)
-        if offsets[0] != 0 and _spread(offsets) <= CONSTANT:
+        if offsets[0] != 0 and _spread(offsets) <= _constant_tolerance():
             known = identify_constant(offsets)
             value = known if known is not None else mpmath.nstr(offsets[0], 12)
             return Diagnosis("offset", f"additive offset: claim - route = {value} at every point", factor=value)

@@ -14,14 +14,17 @@ from __future__ import annotations
 import time
 
 import sympy
+from sympy.core.function import AppliedUndef
 
 from crosscheck.claim import Claim
 from crosscheck.errors import DimensionError
+from crosscheck.observables import FUNCTION_OBSERVABLES
 from crosscheck.results import Diagnosis, RouteOutcome
 from crosscheck.spacetimes import family
 from crosscheck.units import (
     Dimension,
     DimensionUnknown,
+    argument_dimension,
     check_claim_dimensions,
     infer_dimensions,
     observable_dimensions,
@@ -108,7 +111,42 @@ def _family_dimensions(claim: Claim, name: str, symbols: dict) -> dict:
             fixed[symbols[name]] = dimension
         elif name in bound:
             relations.append((bound[name], dimension))
+    relations += _detector_relations(claim, index) + _argument_relations(claim)
     return _solve_relations(claim, fixed, relations)
+
+
+# Kinds of the detector arguments (DESIGN.md section 3): they fix the dimensions of
+# the parameters a trajectory is written in (a Minkowski claim has no metric parameters).
+DETECTOR_ARGUMENT_KINDS = {
+    "acceleration": "acceleration",
+    "radius": "length",
+    "angular_velocity": "rate",
+    "velocity": "dimensionless",
+}
+
+
+def _argument_relations(claim: Claim) -> list:
+    """(argument, dimension) for each function observable in the claim: a_loc(r) takes a
+    radius, T_eff(w) a gap, so parameters used only there still get a dimension."""
+    relations = []
+    for side in (claim.lhs, claim.rhs):
+        for node in side.atoms(AppliedUndef):
+            if node.func.__name__ in FUNCTION_OBSERVABLES:
+                expected = argument_dimension(node.func.__name__, claim.units)
+                relations += [(arg, expected) for arg in node.args if arg.free_symbols]
+    return relations
+
+
+def _detector_relations(claim: Claim, index: int) -> list:
+    """(expression, dimension) for each detector argument of a known kind."""
+    if claim.detector is None:
+        return []
+    relations = []
+    for key, expr in claim.detector.arguments.items():
+        kind = DETECTOR_ARGUMENT_KINDS.get(key)
+        if kind is not None and isinstance(expr, sympy.Expr) and expr.free_symbols:
+            relations.append((expr, KIND_DIMENSIONS[kind][index]))
+    return relations
 
 
 def _solve_relations(claim: Claim, fixed: dict, relations: list) -> dict:

@@ -27,6 +27,8 @@ SCALAR_OBSERVABLES: dict[str, str] = {
 FUNCTION_OBSERVABLES: dict[str, str] = {
     "a_loc": "proper acceleration of a static observer at r",
     "T_loc": "local (Tolman) temperature of a static observer at r",
+    "T_eff": "a detector's detailed-balance temperature w/ln(F(-w)/F(w)) at gap w",
+    "rate": "a detector's transition rate F(w) per unit proper time at gap w (w < 0: de-excitation)",
 }
 
 ALL_OBSERVABLES = frozenset(SCALAR_OBSERVABLES) | frozenset(FUNCTION_OBSERVABLES)

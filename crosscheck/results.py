@@ -58,7 +58,8 @@ class Diagnosis:
 
     kind: 'factor' (constant ratio, identified in `factor`), 'power' (ratio is
     a power of parameters, exponents in `exponents`), 'sign', 'offset',
-    'normalization', 'dimension', 'unidentified'.
+    'normalization', 'horizon' (the claim matches another horizon), 'dimension',
+    'unidentified'.
     """
 
     kind: str
@@ -86,6 +87,12 @@ class RouteOutcome:
     values: dict[str, str] = field(default_factory=dict)
     evidence: dict[str, object] = field(default_factory=dict)
 
+    def _repr_html_(self) -> str:
+        """Jupyter shows a route's outcome as the HTML report's section for it (same templates)."""
+        from crosscheck.report.html import route_fragment
+
+        return route_fragment(self)
+
 
 @dataclass(frozen=True)
 class ClaimOutcome:
@@ -101,3 +108,9 @@ class ClaimOutcome:
     sources: tuple[str, ...] = ()
     seconds: float = 0.0
     error: str | None = None
+
+    def _repr_html_(self) -> str:
+        """Jupyter shows a claim's outcome as the HTML report's section for it (same templates)."""
+        from crosscheck.report.html import claim_fragment
+
+        return claim_fragment(self)

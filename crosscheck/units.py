@@ -171,12 +171,22 @@ def observable_dimensions(system: UnitSystem, spacetime_dim: int) -> dict[str, D
     """
     area = LENGTH ** (spacetime_dim - 2)
     if _checked(system) == "geometric":
-        dims = dict.fromkeys(("T", "kappa", "Omega", "a_loc", "T_loc"), LENGTH**-1)
-        return {**dims, "A": area, "S": area, "Phi": DIMENSIONLESS, "r_h": LENGTH}
+        dims = dict.fromkeys(("T", "kappa", "Omega", "a_loc", "T_loc", "T_eff"), LENGTH**-1)
+        # A monopole detector's rate: W(s) ~ s^(2-D), F = integral ds W ~ length^(3-D).
+        return {**dims, "A": area, "S": area, "Phi": DIMENSIONLESS, "r_h": LENGTH,
+                "rate": LENGTH ** (3 - spacetime_dim)}
     accel = LENGTH / TIME**2
-    return {"T": TEMPERATURE, "T_loc": TEMPERATURE, "kappa": accel, "a_loc": accel,
+    return {"T": TEMPERATURE, "T_loc": TEMPERATURE, "T_eff": TEMPERATURE, "kappa": accel, "a_loc": accel,
             "Omega": TIME**-1, "A": area, "r_h": LENGTH, "Phi": _VOLT,
             "S": _ENERGY / TEMPERATURE * LENGTH ** (spacetime_dim - 4)}
+
+
+def argument_dimension(observable: str, system: UnitSystem) -> Dimension:
+    """Dimension of a function observable's argument: a radius for a_loc(r), T_loc(r);
+    a gap (an inverse length, in SI an angular frequency) for T_eff(w), rate(w)."""
+    if observable in ("T_eff", "rate"):
+        return LENGTH**-1 if _checked(system) == "geometric" else TIME**-1
+    return LENGTH
 
 
 def conversion_factor(observable: str, system: UnitSystem, spacetime_dim: int = 4) -> sympy.Expr:
@@ -327,9 +337,10 @@ class _Check(_Context):
         name = node.func.__name__
         if name not in self.function_dims:
             raise DimensionUnknown(f"unknown dimension of {name}")
+        expected = argument_dimension(name, self.system)
         for arg in node.args if name in FUNCTION_OBSERVABLES else ():
-            if (d := _walk(arg, self)) != LENGTH:  # a_loc(r): r is a radius
-                raise DimensionError(f"the argument of {node} must be a length, "
+            if (d := _walk(arg, self)) != expected:  # a_loc(r): a radius; T_eff(w): a gap
+                raise DimensionError(f"the argument of {node} must have {expected.describe(self.system)}, "
                                      f"but {arg} has {d.describe(self.system)}")
         return self.function_dims[name]
 

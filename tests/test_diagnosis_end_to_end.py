@@ -142,8 +142,21 @@ def test_scaling_claim_agrees_and_reports_the_constant():
     outcome = outcome_of(text)
     assert outcome.status == "confirmed"
     for route in outcome.routes:
-        if route.route != "dimensions" and route.grade == "exact":
+        if route.route != "dimensions" and route.grade == "exact" and route.status == "agree":
             assert "claim/route = 8*pi" in route.reason
+    assert sum(r.status == "agree" and r.grade == "exact" for r in outcome.routes) >= 6
     # The barrier-penetration estimate is T ~ 1/r_h = 1/(2M) (PHYSICS.md, common practice).
     estimate = next(r for r in outcome.routes if r.route == "dimensional-estimate")
     assert estimate.status == "agree" and "claim/route = 2" in estimate.reason
+
+
+def test_naive_tunneling_temperature_is_named():
+    # Source: PHYSICS.md "tunneling" and the literature on the factor of two (e.g. Akhmedov,
+    # Akhmedova and Singleton, Phys. Lett. B 642, 124 (2006), from memory): exp(-2 Im W) gives
+    # kappa/pi = 1/(4 pi M) for Schwarzschild, twice Hawking's 1/(8 pi M).
+    text = SCHWARZSCHILD.format(claim="T = 1/(4*pi*M)") + "routes: [tunneling, euclidean-period]\n"
+    diagnoses = route_diagnoses(outcome_of(text))
+    assert "naive tunneling rate" in diagnoses["tunneling"].text
+    assert diagnoses["tunneling"].factor == "2"
+    # A route without that pitfall names only the factor.
+    assert "naive" not in diagnoses["euclidean-period"].text and diagnoses["euclidean-period"].factor == "2"

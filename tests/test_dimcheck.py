@@ -63,3 +63,35 @@ def test_user_metric_dimensions_are_inferred():
     """
     assert check(text).status == "agree"
     assert "length^-2" in check(text.replace("1/(2*b)", "1/(2*b**2)")).diagnosis.text
+
+
+DETECTOR = """
+id: test/detector
+spacetime: {name: minkowski, dim: 4}
+detector: {trajectory: uniform-acceleration, acceleration: a}
+parameters: {a: [0.1, 10]}
+claim: CLAIM
+"""
+
+
+@pytest.mark.parametrize(("claim", "status"), [
+    # Source: Unruh, Phys. Rev. D 14, 870 (1976): T = a/(2 pi), an inverse length in geometric units.
+    ("T = a/(2*pi)", "agree"),
+    ("T = a**2/(2*pi)", "disagree"),
+    ("T = 1/(2*pi)", "disagree"),
+])
+def test_detector_arguments_give_the_parameters_dimensions(claim, status):
+    assert check(DETECTOR.replace("CLAIM", claim)).status == status
+
+
+def test_function_observable_arguments_fix_parameter_dimensions():
+    # The argument of T_loc(r) is a radius (DESIGN.md section 3), so d in r = 2M(1 + d) is
+    # dimensionless; Tolman's law T_loc = T/sqrt(F) (Tolman 1930) is then consistent.
+    text = """
+id: test/tolman
+spacetime: {name: schwarzschild}
+parameters: {M: [0.5, 20], d: [0.001, 0.1]}
+claim: T_loc(2*M*(1 + d)) = 1/(8*pi*M*sqrt(1 - 1/(1 + d)))
+"""
+    assert check(text).status == "agree"
+    assert check(text.replace("8*pi*M*sqrt", "8*pi*M**2*sqrt")).status == "disagree"

@@ -167,13 +167,13 @@ def test_applies():
     assert ROUTE.applies(good) is None and ROUTE.applies(CASES["kerr"][0]()) is None
     assert "horizon" in ROUTE.applies(Problem(Spacetime(static_metric(1 - 2 * M / r), HorizonSpec()), None, (M,), frozenset({"T"})))
     assert "A" in ROUTE.applies(Problem(good.spacetime, None, (M,), frozenset({"T", "A"})))
-    # Painleve-Gullstrand form: a dt dr term, the (t, r) block is not diagonal
+    # Painleve-Gullstrand form: the dt dr term is removed by completing the square (same d/dt)
     from crosscheck.spacetimes.base import PHI, THETA
 
     t, dt, dr, dth, dph = sympy.symbols("t dt dr dth dph", real=True)
     ds2 = -(1 - 2 * M / r) * dt**2 + 2 * sympy.sqrt(2 * M / r) * dt * dr + dr**2 + r**2 * (dth**2 + sympy.sin(THETA) ** 2 * dph**2)
     pg = line_element_metric((t, r, THETA, PHI), ds2, {t: dt, r: dr, THETA: dth, PHI: dph})
-    assert "dt dr" in ROUTE.applies(problem(pg, 2 * M, (M,), {M: ("1", "2")}))
+    assert ROUTE.applies(problem(pg, 2 * M, (M,), {M: ("1", "2")})) is None
 
 
 # --------------------------------------------------------------------------- values
@@ -270,7 +270,9 @@ def test_evidence_series_and_collapse_map():
 
 def test_kerr_rate_is_theta_independent():
     law = numeric("kerr").evidence["zeroth_law"]
-    assert law["holds"] and len(law["kappa_t"]) == 3 and law["max_difference"] < 1e-25
+    # Source: Bardeen, Carter and Hawking 1973 (zeroth law): kappa is constant on the horizon.
+    # The other angles are traced at 15 digits (a check, not the reported value).
+    assert law["holds"] and len(law["kappa_t"]) == 3 and law["max_difference"] < 1e-12
 
 
 def test_wrong_horizon_is_an_error():

@@ -25,8 +25,9 @@ def route_rows(text: str):
     assert not errors, errors
     outcome = run_claim(claim, ROUTES, RunOptions(samples=3))
     assert outcome.status == "confirmed", [(r.route, r.status, r.reason) for r in outcome.routes]
-    rows = [(r.route, row) for r in outcome.routes for row in r.numeric]
-    assert {name for name, _ in rows} == {"killing-horizon", "near-horizon"}
+    # Exact routes only: the dimensional estimate is right up to an O(1) factor by design.
+    rows = [(r.route, row) for r in outcome.routes if r.grade == "exact" for row in r.numeric]
+    assert {"killing-horizon", "near-horizon"} <= {name for name, _ in rows}
     return rows
 
 

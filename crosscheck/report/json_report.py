@@ -53,6 +53,11 @@ def claim_record(outcome: ClaimOutcome) -> dict:
     }
 
 
-def to_json(outcomes: Sequence[ClaimOutcome], run: Mapping[str, object]) -> str:
-    document = {"schema": SCHEMA, "run": dict(run), "claims": [claim_record(o) for o in outcomes]}
+INCOMPLETE_MARK = '"complete": false'
+
+
+def to_json(outcomes: Sequence[ClaimOutcome], run: Mapping[str, object], complete: bool = True) -> str:
+    """The document; `complete` is false for a run stopped early (then `run.unfinished` lists
+    the claims that have no result)."""
+    document = {"schema": SCHEMA, "complete": complete, "run": dict(run), "claims": [claim_record(o) for o in outcomes]}
     return json.dumps(_finite(document), indent=2, sort_keys=False) + "\n"

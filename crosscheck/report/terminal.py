@@ -33,12 +33,13 @@ def claim_line(outcome: ClaimOutcome) -> str:
 
 
 def detail_lines(outcome: ClaimOutcome) -> list[str]:
-    """Extra lines for contradicted claims and failed routes: what went wrong."""
+    """Extra lines for contradicted claims and failed routes: what went wrong, and where
+    (`file:line:` first, so that editors can jump to the claim)."""
     lines = []
     for route in outcome.routes:
         if route.status in ("disagree", "error", "timeout"):
             text = route.diagnosis.text if route.diagnosis else route.reason
-            lines.append(f"    {route.route}: {route.status}: {text}")
+            lines.append(f"    {outcome.file}:{outcome.line}: {route.route}: {route.status}: {text}")
     return lines
 
 
@@ -46,3 +47,16 @@ def summary(outcomes: Sequence[ClaimOutcome], seconds: float) -> str:
     counts = Counter(o.status for o in outcomes)
     parts = [f"{counts[s]} {s}" for s in CLAIM_WORDS if counts[s]]
     return f"{len(outcomes)} claims: {', '.join(parts) or 'none'} in {seconds:.1f} s"
+
+
+def cache_note(cached: int, computed: int) -> str:
+    """`(40 results from the cache, 3 computed)`; empty when nothing came from the cache."""
+    return f"({cached} results from the cache, {computed} computed)" if cached else ""
+
+
+def incomplete_line(stopped_by: str | None, unfinished: Sequence[str]) -> str:
+    """What an interrupted run did not do."""
+    shown = ", ".join(unfinished[:5]) + (", ..." if len(unfinished) > 5 else "")
+    return f"INCOMPLETE: stopped by {stopped_by or 'an interrupt'}; {len(unfinished)} claims not checked" + (
+        f": {shown}" if unfinished else ""
+    )

@@ -261,7 +261,7 @@ class RootTrack:
     LOWEST = mpmath.mpf(2) ** -47  # ~7e-15; below it the local power law extrapolates
     STEPS = (mpmath.mpf(1) / 2, 2 ** mpmath.mpf(-0.5), 2 ** mpmath.mpf(-0.25), 2 ** mpmath.mpf(-0.125), 2 ** mpmath.mpf(-1 / 16))
 
-    def __init__(self, thermo: "Thermodynamics", dps: int) -> None:
+    def __init__(self, thermo: Thermodynamics, dps: int) -> None:
         self.thermo, self.dps = thermo, dps
         with mpmath.workdps(dps):
             start = thermo.spec_horizon(mpmath.mpf(1))

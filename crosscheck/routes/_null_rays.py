@@ -31,6 +31,7 @@ from crosscheck.measure import Measured
 from crosscheck.numerics import richardson_limit
 from crosscheck.spacetimes.base import Metric, Spacetime
 from crosscheck.spacetimes.evaluation import as_sympy, to_mp
+from crosscheck.spacetimes.forms import lone_time_radial_term
 from crosscheck.spacetimes.horizon import equatorial, killing_norm, positive_roots_numeric
 
 Point = Mapping[sympy.Symbol, object]
@@ -56,9 +57,11 @@ def radial_form(metric: Metric, theta: sympy.Expr = sympy.pi / 2) -> RadialForm:
     if metric.static is not None and metric.axial is None:
         s = metric.static
         return RadialForm(as_sympy(s.F), as_sympy(s.G), None if s.R is None else as_sympy(s.R), s.r, "static F, G, R")
-    if any(g[1, j] != 0 for j in range(metric.dim) if j != 1):
-        raise CannotCompute("radial null rays: g_rr mixes with other coordinates (e.g. a dt dr term); write a diagonal (t, r) block")
     angles = {c: theta for c in metric.coords[2:] if c != metric.axial}
+    if lone_time_radial_term(metric):
+        return _completed_square(metric, angles)
+    if any(g[1, j] != 0 for j in range(2, metric.dim)):
+        raise CannotCompute("radial null rays: g_rr mixes with angular coordinates")
     if metric.axial is not None:
         k = metric.coords.index(metric.axial)
         others = [j for j in range(1, metric.dim) if j != k and g[0, j] != 0]
@@ -74,6 +77,21 @@ def radial_form(metric: Metric, theta: sympy.Expr = sympy.pi / 2) -> RadialForm:
     if (F.free_symbols | G.free_symbols) & set(metric.coords[2:]):
         raise CannotCompute("radial null rays: F or G depends on the angles")
     return RadialForm(F, G, None, r, how)
+
+
+def _completed_square(metric: Metric, angles: dict) -> RadialForm:
+    """A static (t, r) block with a dt dr term, e.g. Painleve-Gullstrand coordinates.
+
+    g_tt dt^2 + 2 g_tr dt dr + g_rr dr^2 = g_tt (dt + g_tr/g_tt dr)^2 + (g_rr - g_tr^2/g_tt) dr^2:
+    the shifted time t' = t + f(r) has the same Killing vector d/dt, so F = -g_tt and
+    1/G = g_rr - g_tr^2/g_tt describe the same radial null rays outside the horizon.
+    """
+    g = metric.g
+    F = as_sympy(-g[0, 0]).subs(angles)
+    G = sympy.cancel(as_sympy(g[0, 0] / (g[0, 0] * g[1, 1] - g[0, 1] ** 2)).subs(angles))
+    if (F.free_symbols | G.free_symbols) & set(metric.coords[2:]):
+        raise CannotCompute("radial null rays: F or G depends on the angles")
+    return RadialForm(F, G, None, metric.radial, "F = -g_tt, 1/G = g_rr - g_tr^2/g_tt (square completed in dt)")
 
 
 # --------------------------------------------------------------------------- compiled functions

@@ -26,8 +26,13 @@ BUILTIN: dict[str, str] = {
     "near-horizon": "crosscheck.routes.near_horizon:NearHorizonRoute",
     "ray-peeling": "crosscheck.routes.ray_peeling:RayPeelingRoute",
     "bogoliubov": "crosscheck.routes.bogoliubov:BogoliubovRoute",
+    "detector-response": "crosscheck.routes.detector_response:DetectorResponseRoute",
     "dimensional-estimate": "crosscheck.routes.dimensional_estimate:DimensionalEstimateRoute",
+    "euclidean-period": "crosscheck.routes.euclidean_period:EuclideanPeriodRoute",
     "first-law": "crosscheck.routes.first_law:FirstLawRoute",
+    "infall-atom": "crosscheck.routes.infall_atom:InfallAtomRoute",
+    "kms-correlator": "crosscheck.routes.kms_correlator:KmsCorrelatorRoute",
+    "tunneling": "crosscheck.routes.tunneling:TunnelingRoute",
 }
 REQUIRED_ATTRIBUTES = ("name", "title", "grade", "observables", "applies", "symbolic", "numeric")
 

@@ -221,3 +221,16 @@ def line_element_metric(
         axial=_axial_coordinate(coords, g),
         static=_static_functions(coords, g),
     )
+
+
+def lone_time_radial_term(metric: Metric) -> bool:
+    """True for a static metric whose only off-diagonal term is dt dr (Painleve-Gullstrand,
+    Eddington-Finkelstein-like charts).  Completing the square,
+    g_tt dt^2 + 2 g_tr dt dr + g_rr dr^2 = g_tt (dt + g_tr/g_tt dr)^2 + (g_rr - g_tr^2/g_tt) dr^2,
+    gives the diagonal form -F dt'^2 + dr^2/G with F = -g_tt and the same Killing vector d/dt.
+    """
+    g, n = metric.g, metric.dim
+    if metric.axial is not None or g[0, 1] == 0:
+        return False
+    others = [(i, j) for i in range(n) for j in range(i + 1, n) if (i, j) != (0, 1) and g[i, j] != 0]
+    return not others

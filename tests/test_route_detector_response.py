@@ -1,0 +1,132 @@
+"""The detector-response route against closed forms and an independent computation.
+
+Closed forms: Birrell & Davies 1982, sec. 3.3 (from memory) for 3+1,
+F = (w/2pi)/(exp(2 pi w/a) - 1); Takagi 1986, Prog. Theor. Phys. Suppl. 88, ch. 6
+(from memory) for 2+1, F = (1/2)/(exp(2 pi w/a) + 1).  Circular motion: the sum over
+the complex poles of W in the lower half plane, written here with mpmath alone.
+"""
+
+from __future__ import annotations
+
+import mpmath
+import pytest
+
+from crosscheck.claimfile import load_claim_text
+from crosscheck.routes._detector_rate import transition_rates
+from crosscheck.routes.detector_response import DetectorResponseRoute
+from crosscheck.runner import RunOptions, run_claim
+from crosscheck.trajectories import Worldline
+
+mp = mpmath.mpf
+GAPS = [mp(x) for x in ("0.01", "0.3", "1", "2.5", "5", "10")]
+
+
+def bose_4d(w, a):
+    return w / (2 * mpmath.pi) / mpmath.expm1(2 * mpmath.pi * w / a)
+
+
+def fermi_3d(w, a):
+    return mp(1) / 2 / (mpmath.exp(2 * mpmath.pi * w / a) + 1)
+
+
+@pytest.mark.parametrize("dim, closed", [(4, bose_4d), (3, fermi_3d)])
+def test_accelerated_rates_match_closed_forms_over_minus_10_to_10(dim, closed):
+    # Source: Birrell & Davies 1982 sec. 3.3; Takagi 1986 (both from memory), see module docstring
+    with mpmath.workdps(40):
+        a = mp("1.7")
+        gaps = [g * a for g in GAPS]
+    rates = transition_rates(Worldline("uniform-acceleration", dim, acceleration=a), "monopole", gaps, 20)
+    with mpmath.workdps(40):
+        for w, up, down in zip(gaps, rates.excitation, rates.deexcitation):
+            assert abs(up.value / closed(w, a) - 1) < 1e-12
+            assert abs(down.value / closed(-w, a) - 1) < 1e-12
+            assert up.error / up.value < 1e-12  # the stated error is small, and honest:
+            assert abs(up.value - closed(w, a)) <= up.error + mp(10) ** -25 * up.value
+
+
+def test_derivative_coupling_in_1_plus_1():
+    # Source: Birrell & Davies 1982 sec. 3.3 (from memory): the 1+1 derivative-coupled rate is w/(exp(2 pi w/a) - 1)
+    a = mp(1)
+    rates = transition_rates(Worldline("uniform-acceleration", 2, acceleration=a), "derivative", [mp("0.5"), mp(3)], 20)
+    for up, w in zip(rates.excitation, (mp("0.5"), mp(3))):
+        assert abs(up.value / (w / mpmath.expm1(2 * mpmath.pi * w / a)) - 1) < 1e-12
+
+
+def test_inertial_limit():
+    # Source: common practice: the inertial detector in the vacuum only de-excites, F(-w) = w/(2 pi) in 3+1
+    rates = transition_rates(Worldline("inertial", 4, velocity=mp("0.3")), "monopole", [mp("0.5"), mp(2)], 20)
+    for w, up, down in zip((mp("0.5"), mp(2)), rates.excitation, rates.deexcitation):
+        assert abs(up.value) <= 1e-25
+        assert abs(down.value / (w / (2 * mpmath.pi)) - 1) < 1e-15
+    # small acceleration tends to it: F(-w) -> w/(2 pi)
+    weak = transition_rates(Worldline("uniform-acceleration", 4, acceleration=mp("0.05")), "monopole", [mp(1)], 20)
+    with mpmath.workdps(30):
+        assert abs(weak.deexcitation[0].value / (1 / (2 * mpmath.pi)) - 1) < 1e-20
+
+
+def circular_rate_by_poles(R, W, w):
+    """Independent reference: F(w > 0) = -2 pi i sum of residues of exp(-i w z)/(4 pi^2 sigma2)
+    at the zeros of sigma2 = 4R^2 sin^2(k z/2) - gamma^2 z^2 below the real axis."""
+    v = R * W
+    g = 1 / mpmath.sqrt(1 - v**2)
+    k = g * W
+    slope = lambda z: 2 * R**2 * k * mpmath.sin(k * z) - 2 * g**2 * z  # noqa: E731
+    u0 = mpmath.findroot(lambda u: mpmath.sinh(u) - u / v, mp(2))
+    y0 = 2 * u0 / k
+    total = mpmath.re(-2j * mpmath.pi * mpmath.exp(-w * y0) / slope(-1j * y0))
+
+    def pair(m):
+        p = mpmath.pi / 2 + mpmath.pi * int(m)
+        u = mpmath.findroot(lambda u: mpmath.sin(u) - (-1) ** int(m) * u / v, mpmath.mpc(p, -mpmath.log(2 * p / v)))
+        return 4 * mpmath.pi * mpmath.im(mpmath.exp(-1j * w * 2 * u / k) / slope(2 * u / k))
+
+    return (total + mpmath.nsum(pair, [1, mpmath.inf])) / (4 * mpmath.pi**2)
+
+
+@pytest.mark.parametrize("v, x", [("0.9", "1"), ("0.9", "2"), ("0.9", "3"), ("0.5", "2")])
+def test_circular_effective_temperature_against_pole_sum(v, x):
+    # Source: independent computation in this test (residue sum, mpmath.nsum); T_eff = w/ln(F(-w)/F(w))
+    R, W = mp(1), mp(v)
+    line = Worldline("circular", 4, radius=R, angular_velocity=W)
+    w = mp(x) * line.proper_acceleration()
+    rates = transition_rates(line, "monopole", [w], 20)
+    with mpmath.workdps(30):
+        reference = circular_rate_by_poles(R, W, w)
+        t_ref = w / mpmath.log((reference + w / (2 * mpmath.pi)) / reference)
+        t_route = w / mpmath.log(rates.deexcitation[0].value / rates.excitation[0].value)
+        assert abs(t_route / t_ref - 1) < 1e-12
+
+
+def run(text):
+    claims, errors = load_claim_text(text, "<test>")
+    assert not errors, errors
+    return run_claim(claims[0], {"detector-response": DetectorResponseRoute()}, RunOptions(samples=2, digits=20)).routes[-1]
+
+
+CLAIM = """
+id: t/d
+spacetime: {{name: minkowski, dim: {dim}}}
+detector: {{trajectory: {trajectory}, {arguments}}}
+parameters: {{a: [0.5, 2]}}
+{claim}
+"""
+
+
+def test_wrong_factor_is_diagnosed():
+    # Source: Unruh 1976 (T = a/(2 pi)); the claim T = a/pi is off by 2
+    outcome = run(CLAIM.format(dim=4, trajectory="uniform-acceleration", arguments="acceleration: a", claim="claim: T = a/pi"))
+    assert outcome.status == "disagree" and outcome.diagnosis.factor == "2"
+    outcome = run(CLAIM.format(dim=4, trajectory="uniform-acceleration", arguments="acceleration: a", claim="claim: T = a/(4*pi)"))
+    assert outcome.status == "disagree" and outcome.diagnosis.factor == "1/2"
+
+
+def test_bose_in_three_dimensions_is_contradicted():
+    # Source: Takagi 1986 (from memory): the 2+1 response is fermi-shaped
+    outcome = run(CLAIM.format(dim=3, trajectory="uniform-acceleration", arguments="acceleration: a", claim="spectrum: bose"))
+    assert outcome.status == "disagree" and "fermi-shaped in odd dimensions" in outcome.diagnosis.text
+
+
+def test_thermal_circular_motion_is_contradicted():
+    # Source: Bell & Leinaas 1983 (from memory): circular motion gives no Planck spectrum
+    outcome = run(CLAIM.format(dim=4, trajectory="circular", arguments="radius: a, angular_velocity: 0.5/a", claim="spectrum: bose"))
+    assert outcome.status == "disagree" and "across the band: not thermal" in outcome.diagnosis.text
