@@ -166,6 +166,10 @@ def read_claim(node: YNode, known_routes: Collection[str] | None = None) -> Clai
             dimension_sides = _read_equation(body, symbolic_names, coordinates, parameters)[:2]
         except ClaimError:
             dimension_sides = None
+    if detector is not None and detector.trajectory == "static":
+        lhs, rhs, observables, dimension_sides = _static_detector(body, detector, spacetime, parameters,
+                                                                  (lhs, rhs), observables, dimension_sides)
+        detector = None
     return Claim(
         id=claim_id,
         title=fields.text_of(body.items["title"], "title") if "title" in body.items else claim_id,
@@ -195,6 +199,24 @@ def read_claim(node: YNode, known_routes: Collection[str] | None = None) -> Clai
         claim_column=column,
         dimension_sides=dimension_sides,
     )
+
+
+def _static_detector(body: YMap, detector, spacetime, parameters, sides, observables, dimension_sides):
+    """A static detector at `radius` in the Hartle-Hawking state is at rest in the local
+    thermal bath: its temperature is the local (Tolman) temperature T_loc(radius).  The claim
+    becomes a horizon claim on T_loc, which the horizon routes compute independently."""
+    if spacetime is None:
+        raise body.loc.error("detector", "a static detector needs a spacetime with a horizon")
+    if "spectrum" in body.items:
+        raise body.items["spectrum"].loc.error("spectrum", "the spectrum of a static detector is not judged; claim its T")
+    radius = detector.arguments["radius"]
+    T = observable_function("T")(*(p.symbol for p in parameters))
+    local = {T: observable_function("T_loc")(radius)}
+    lhs, rhs = (side.xreplace(local) for side in sides)
+    if dimension_sides is not None:
+        dimension_sides = tuple(side.xreplace(local) for side in dimension_sides)
+    observables = frozenset("T_loc" if name == "T" else name for name in observables)
+    return lhs, rhs, observables, dimension_sides
 
 
 def _read_id(body: YMap) -> str:

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import sympy
 
-from crosscheck.claimfile import load_claim_file, load_paths
+from crosscheck.claimfile import load_claim_file, load_claim_text, load_paths
 
 GOOD = """
 id: test/schwarzschild
@@ -195,3 +195,22 @@ def test_huge_file_and_billion_laughs_rejected(claim_file):
     assert "aliases" in only_error(claim_file(laughs)).message
     error = only_error(claim_file("notes: " + "x" * (300 * 1024) + "\n"))
     assert "larger than" in error.message
+
+
+STATIC_DETECTOR = """
+id: t/static
+spacetime: {name: schwarzschild}
+detector: {trajectory: static, radius: 4*M}
+parameters: {M: [1, 2]}
+claim: T = 1/(8*pi*M*sqrt(1/2))
+"""
+
+
+def test_static_detector_claim_becomes_a_local_temperature_claim():
+    # A static detector in the Hartle-Hawking state sees the Tolman temperature T_loc(r0)
+    # (Tolman, Phys. Rev. 35, 904 (1930)); the claim is read as one on T_loc(4M).
+    [claim], errors = load_claim_text(STATIC_DETECTOR, "s.yaml")
+    assert not errors and claim.detector is None and claim.observables == frozenset({"T_loc"})
+    assert "T_loc(4*M)" in str(claim.lhs)
+    _, errors = load_claim_text(STATIC_DETECTOR + "spectrum: bose\n", "s.yaml")
+    assert errors and "spectrum" in str(errors[0])
