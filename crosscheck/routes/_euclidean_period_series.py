@@ -17,8 +17,8 @@ from dataclasses import dataclass
 
 import sympy
 
+from crosscheck import probing
 from crosscheck.errors import CannotCompute
-from crosscheck.routes import _euclidean_period_plane as pl
 
 MAX_ORDER = 4  # highest Taylor order looked at (an extremal horizon has order 2)
 SIMPLIFY_OPS = 80  # sympy simplify only below this many operations (it can hang)
@@ -84,7 +84,7 @@ class Horizon:
         return tidy(parts[0] / parts[1])
 
     def is_zero(self, expr: sympy.Expr) -> bool:
-        return pl.is_zero(self.exact(expr), self.points)
+        return probing.is_zero(self.exact(expr), self.points)
 
 
 def horizon(F: sympy.Expr, r: sympy.Symbol, value: sympy.Expr, side: int, points) -> Horizon:
@@ -95,7 +95,7 @@ def horizon(F: sympy.Expr, r: sympy.Symbol, value: sympy.Expr, side: int, points
         if numerator.is_polynomial(r) and sympy.count_ops(numerator) <= FACTOR_OPS:
             factors = sympy.factor_list(sympy.Poly(numerator, r))[1]
             for factor, _ in sorted(factors, key=lambda pair: pair[0].degree()):
-                if factor.degree() >= 1 and pl.is_zero(factor.as_expr().subs(r, value), points[:1]):
+                if factor.degree() >= 1 and probing.is_zero(factor.as_expr().subs(r, value), points[:1]):
                     modulus = sympy.Poly(factor.as_expr().subs(r, RH), RH)
                     break
     except (sympy.PolynomialError, NotImplementedError, CannotCompute):

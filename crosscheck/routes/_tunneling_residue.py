@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 import sympy
 
+from crosscheck import probing
 from crosscheck.errors import CannotCompute
 from crosscheck.routes import _tunneling_plane as tp
 
@@ -51,7 +52,7 @@ def taylor(f: sympy.Expr, r: sympy.Symbol, r_h: sympy.Expr, points: Sequence[tp.
         if order:
             derivatives.append(sympy.diff(derivatives[-1], r))
         c = derivatives[order].subs(r, RH) / sympy.factorial(order)
-        if not tp.is_zero(c.subs(RH, r_h), points):
+        if not probing.is_zero(c.subs(RH, r_h), points):
             following = sympy.diff(derivatives[order], r).subs(r, RH) / sympy.factorial(order + 1)
             return order, tidy(c), tidy(following)
     raise CannotCompute(f"{f} vanishes to order > {MAX_ORDER} at r_h = {r_h}")
@@ -107,7 +108,7 @@ def positive_sqrt(square: sympy.Expr, r_h: sympy.Expr, points: Sequence[tp.Point
     candidate = candidate.replace(lambda e: isinstance(e, sympy.Abs), lambda e: e.args[0])
     for sign in (1, -1):
         try:
-            if tp.is_zero((sign * candidate - plain).subs(RH, r_h), points):
+            if probing.is_zero((sign * candidate - plain).subs(RH, r_h), points):
                 return tidy(sign * candidate)
         except CannotCompute:
             break

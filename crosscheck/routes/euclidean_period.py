@@ -22,6 +22,7 @@ from typing import ClassVar, Literal
 import mpmath
 import sympy
 
+from crosscheck import probing
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.routes import _euclidean_period_plane as pl
@@ -85,7 +86,7 @@ def _eq(name: str, expr: sympy.Expr) -> sympy.Basic:
 def _symbolic(problem: Problem) -> SymbolicResult:
     spacetime = _spacetime(problem)
     plane = pl.plane(spacetime.metric)
-    points = pl.probe_points(problem)
+    points = probing.probe_points(problem)
     rep, r = points[0], plane.r
     r_h = horizon_radius(spacetime, rep)
     F, G = plane.at_angle(pl.ANGLES[0])
@@ -145,7 +146,7 @@ def _zeroth_law(plane: pl.Plane, h: es.Horizon, rep: pl.Point) -> sympy.Tuple:
         if f.order + g.order != 2:
             products.append(mpmath.mpf(0))
             continue
-        products.append(pl.value(at_rep.exact(f.coefficient * g.coefficient), rep, 30).real)
+        products.append(probing.value(at_rep.exact(f.coefficient * g.coefficient), rep, 30).real)
     with mpmath.workdps(30):
         spread = max(abs(p - products[0]) for p in products)
         if spread > mpmath.mpf(10) ** -20 * max(abs(products[0]), mpmath.mpf(10) ** -30):

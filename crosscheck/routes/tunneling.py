@@ -22,6 +22,7 @@ from typing import ClassVar, Literal
 import mpmath
 import sympy
 
+from crosscheck import probing
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.routes import _tunneling_contour as tc
@@ -91,7 +92,7 @@ def _wanted(values: dict, problem: Problem) -> dict:
 def _symbolic(problem: Problem) -> SymbolicResult:
     spacetime = _spacetime(problem)
     rad = tp.radial(spacetime.metric)
-    points = tp.probe_points(problem)
+    points = probing.probe_points(problem)
     rep, r = points[0], rad.r
     r_h = horizon_radius(spacetime, rep)
     F, G, omega = rad.at_angle(tp.ANGLES[0])
@@ -151,7 +152,7 @@ def _zeroth_law(rad: tp.Radial, r_h: sympy.Expr, n: int, rep: tp.Point) -> sympy
     for angle in tp.ANGLES:
         F, G, _ = rad.at_angle(angle)
         c = (sympy.diff(F, rad.r, k) * sympy.diff(G, rad.r, k)).subs(rad.r, r_h) / sympy.factorial(k) ** 2
-        found.append(tp.value(c, rep, 30).real)
+        found.append(probing.value(c, rep, 30).real)
     with mpmath.workdps(30):
         if max(abs(v - found[0]) for v in found) > mpmath.mpf(10) ** -20 * abs(found[0]):
             raise ValueError(f"h(0) depends on the angle ({[mpmath.nstr(v, 12) for v in found]}): not a Killing horizon")
