@@ -1,7 +1,9 @@
 """Probing closed forms at points: the generic numeric tools two horizon routes share.
 
 Representative parameter points inside the claim's ranges, a fast compiled
-mpmath evaluation of a sympy expression, and a scale-free zero test.  They
+mpmath evaluation of a sympy expression, a scale-free zero test, and the
+distance from a horizon to the nearest other root of F's and G's polynomial
+parts (the scale on which a route may approach the horizon).  They
 evaluate whatever expression a route hands them; none of them knows a
 surface gravity or a temperature, so sharing them keeps routes independent.
 """
@@ -16,7 +18,7 @@ import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.routes.base import Problem
-from crosscheck.spacetimes.evaluation import as_sympy, to_mp
+from crosscheck.spacetimes.evaluation import as_sympy, evaluate, to_mp
 
 Point = Mapping[sympy.Symbol, object]
 
@@ -71,3 +73,45 @@ def is_zero(expr: sympy.Expr, points: Sequence[Point]) -> bool:
             if high != 0 and abs(high - low) <= mpmath.mpf(10) ** -20 * abs(high):
                 return False
     return True
+
+
+# -- roots of the polynomial parts of F and G: the length scale near a horizon ---------------
+def polynomial_parts(expr: sympy.Expr, r: sympy.Symbol) -> list[sympy.Poly]:
+    """Numerator and denominator of expr as polynomials in r (those that are)."""
+    parts = []
+    for part in sympy.fraction(sympy.cancel(sympy.together(expr))):
+        if part.has(r) and part.is_polynomial(r):
+            try:
+                parts.append(sympy.Poly(part, r))
+            except sympy.PolynomialError:
+                continue
+    return parts
+
+
+def resolution(r_h: mpmath.mpf, digits: int) -> mpmath.mpf:
+    """Roots closer to r_h than this count as r_h: polyroots returns a double root only to
+    about half the digits, so 10^-(2 digits/5) |r_h| leaves a margin."""
+    return mpmath.mpf(10) ** (-(2 * digits) // 5) * max(abs(r_h), 1)
+
+
+def nearest_root_distance(polys: list[sympy.Poly], point: dict, r_h: mpmath.mpf, fallback: mpmath.mpf,
+                  digits: int = 20) -> mpmath.mpf:
+    """Distance from r_h to the nearest root, other than r_h itself, of the given
+    polynomials at the point, by mpmath.polyroots at `digits` digits (20 give the length
+    scale; more tell a near-extremal inner horizon from a double root at r_h); `fallback`
+    when there is none."""
+    found = []
+    with mpmath.workdps(digits):
+        for poly in polys:
+            coefficients = [mpmath.mpmathify(evaluate(c, point, digits)) for c in poly.all_coeffs()]
+            while coefficients and coefficients[0] == 0:
+                coefficients.pop(0)
+            if len(coefficients) < 2:
+                continue
+            try:
+                roots = mpmath.polyroots(coefficients, maxsteps=100, extraprec=3 * digits)
+            except mpmath.libmp.NoConvergence:
+                continue
+            near = resolution(r_h, digits)  # closer roots are r_h itself (a multiple root spreads)
+            found += [abs(z - r_h) for z in roots if abs(z - r_h) > near]
+    return +min(found + [fallback])

@@ -19,11 +19,9 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import mpmath
-import sympy
 
 from crosscheck.measure import Measured
 from crosscheck.numerics import richardson_limit
-from crosscheck.spacetimes.evaluation import evaluate
 
 Function = Callable[[mpmath.mpf], mpmath.mpf]
 
@@ -44,24 +42,6 @@ class Local:
         return f(self.r_h + self.side * delta)
 
 
-def polynomial_parts(expr: sympy.Expr, r: sympy.Symbol) -> list[sympy.Poly]:
-    """Numerator and denominator of expr as polynomials in r (those that are)."""
-    parts = []
-    for part in sympy.fraction(sympy.cancel(sympy.together(expr))):
-        if part.has(r) and part.is_polynomial(r):
-            try:
-                parts.append(sympy.Poly(part, r))
-            except sympy.PolynomialError:
-                continue
-    return parts
-
-
-def resolution(r_h: mpmath.mpf, digits: int) -> mpmath.mpf:
-    """Roots closer to r_h than this count as r_h: polyroots returns a double root only to
-    about half the digits, so 10^-(2 digits/5) |r_h| leaves a margin."""
-    return mpmath.mpf(10) ** (-(2 * digits) // 5) * max(abs(r_h), 1)
-
-
 def degenerate_bound(local: Local, k: int, m: int, separation: mpmath.mpf) -> mpmath.mpf:
     """The largest T_t a horizon could have and still look degenerate: a simple zero split
     off by `separation` (the root resolution) gives T_t ~ sqrt(F_k G_m) separation^((k+m)/2 - 1)/(4 pi),
@@ -69,29 +49,6 @@ def degenerate_bound(local: Local, k: int, m: int, separation: mpmath.mpf) -> mp
     delta = local.scale / 10**5
     coefficients = abs(local.at(local.F, delta)) / delta**k * abs(local.at(local.G, delta)) / delta**m
     return mpmath.sqrt(coefficients) * separation ** (mpmath.mpf(k + m) / 2 - 1) / (4 * mpmath.pi)
-
-
-def nearest_feature(polys: list[sympy.Poly], point: dict, r_h: mpmath.mpf, fallback: mpmath.mpf,
-                  digits: int = 20) -> mpmath.mpf:
-    """Distance from r_h to the nearest root, other than r_h itself, of the given
-    polynomials at the point, by mpmath.polyroots at `digits` digits (20 give the length
-    scale; more tell a near-extremal inner horizon from a double root at r_h); `fallback`
-    when there is none."""
-    found = []
-    with mpmath.workdps(digits):
-        for poly in polys:
-            coefficients = [mpmath.mpmathify(evaluate(c, point, digits)) for c in poly.all_coeffs()]
-            while coefficients and coefficients[0] == 0:
-                coefficients.pop(0)
-            if len(coefficients) < 2:
-                continue
-            try:
-                roots = mpmath.polyroots(coefficients, maxsteps=100, extraprec=3 * digits)
-            except mpmath.libmp.NoConvergence:
-                continue
-            near = resolution(r_h, digits)  # closer roots are r_h itself (a multiple root spreads)
-            found += [abs(z - r_h) for z in roots if abs(z - r_h) > near]
-    return +min(found + [fallback])
 
 
 def zero_order(f: Function, local: Local) -> int:

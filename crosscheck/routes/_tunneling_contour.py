@@ -17,48 +17,6 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import mpmath
-import sympy
-
-from crosscheck.spacetimes.evaluation import evaluate
-
-
-def polynomial_parts(expr: sympy.Expr, r: sympy.Symbol) -> list[sympy.Poly]:
-    parts = []
-    for part in sympy.fraction(sympy.cancel(sympy.together(expr))):
-        if part.has(r) and part.is_polynomial(r):
-            try:
-                parts.append(sympy.Poly(part, r))
-            except sympy.PolynomialError:
-                continue
-    return parts
-
-
-def resolution(r_h: mpmath.mpf, digits: int) -> mpmath.mpf:
-    """Roots closer to r_h than this count as r_h: polyroots returns a double root only to
-    about half the digits, so 10^-(2 digits/5) |r_h| leaves a margin."""
-    return mpmath.mpf(10) ** (-(2 * digits) // 5) * max(abs(r_h), 1)
-
-
-def nearest_singularity(polys: list[sympy.Poly], point: dict, r_h: mpmath.mpf, fallback: mpmath.mpf,
-                        digits: int = 20) -> mpmath.mpf:
-    """Distance from r_h to the nearest other zero or pole of F G, by mpmath.polyroots at
-    `digits` digits (20 give the length scale; more tell a near-extremal inner horizon
-    from a double zero at r_h); `fallback` when there is none."""
-    found = []
-    with mpmath.workdps(digits):
-        for poly in polys:
-            coefficients = [mpmath.mpmathify(evaluate(c, point, digits)) for c in poly.all_coeffs()]
-            while coefficients and coefficients[0] == 0:
-                coefficients.pop(0)
-            if len(coefficients) < 2:
-                continue
-            try:
-                roots = mpmath.polyroots(coefficients, maxsteps=100, extraprec=3 * digits)
-            except mpmath.libmp.NoConvergence:
-                continue
-            near = resolution(r_h, digits)  # closer roots are r_h itself (a multiple root spreads)
-            found += [abs(z - r_h) for z in roots if abs(z - r_h) > near]
-    return +min(found + [fallback])
 
 
 @dataclass(frozen=True)

@@ -166,7 +166,7 @@ def _prepared(F: sympy.Expr, G: sympy.Expr, r: sympy.Symbol) -> tuple:
     exprs = (F, G, dF, sympy.diff(dF, r))
     symbols = tuple(sorted(set().union(*(e.free_symbols for e in exprs)) - {r}, key=str))
     compiled = tuple(sympy.lambdify((r, *symbols), e, modules="mpmath") for e in exprs)
-    return compiled, symbols, eq.polynomial_parts(F, r) + eq.polynomial_parts(G, r)
+    return compiled, symbols, probing.polynomial_parts(F, r) + probing.polynomial_parts(G, r)
 
 
 def _real(function, constants: tuple) -> eq.Function:
@@ -191,7 +191,7 @@ def _local(plane: pl.Plane, angle: sympy.Expr, point: dict, r_h: mpmath.mpf, sca
         raise ValueError(f"no value for {', '.join(map(str, missing))}")
     fs = [_real(c, tuple(point[s] for s in symbols)) for c in compiled]
     if scale is None:
-        scale = eq.nearest_feature(polys, point, r_h, abs(r_h) or mpmath.mpf(1))
+        scale = probing.nearest_root_distance(polys, point, r_h, abs(r_h) or mpmath.mpf(1))
     probe = scale / 10**6
     side = 1 if fs[0](r_h + probe) > 0 or not fs[0](r_h - probe) > 0 else -1
     return eq.Local(*fs, r_h=r_h, side=side, scale=scale)
@@ -237,7 +237,7 @@ def _period_at(plane: pl.Plane, angle: sympy.Expr, point: dict, given: Measured,
     k, m = eq.zero_order(local.F, local), eq.zero_order(local.G, local)
     polys = _prepared(*plane.at_angle(angle), plane.r)[2]
     if k + m > 2 and scale is None:  # degenerate, or an inner horizon closer than 20 digits resolve?
-        closer = eq.nearest_feature(polys, point, given.value, local.scale, digits=dps)
+        closer = probing.nearest_root_distance(polys, point, given.value, local.scale, digits=dps)
         if closer < local.scale / 10:
             return _period_at(plane, angle, point, given, digits, dps, closer)
     evidence: dict[str, object] = {"orders": {"F": k, "G": m}, "scale": local.scale}
@@ -246,7 +246,7 @@ def _period_at(plane: pl.Plane, angle: sympy.Expr, point: dict, given: Measured,
     if k + m < 2:
         raise ValueError(f"F ~ x^{k}, G ~ x^{m} at r_h: no regular Euclidean section (curvature singularity)")
     if k + m > 2:
-        separation = eq.resolution(given.value, dps) if polys else local.scale / 10**4
+        separation = probing.resolution(given.value, dps) if polys else local.scale / 10**4
         evidence["T_t_bound"] = eq.degenerate_bound(local, k, m, separation)
         shown = eq.divergence(local)
         evidence["series"] = [

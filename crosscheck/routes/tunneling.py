@@ -168,7 +168,7 @@ def _prepared(F: sympy.Expr, G: sympy.Expr, omega: sympy.Expr, r: sympy.Symbol) 
     exprs = (F, G, omega)
     symbols = tuple(sorted(set().union(*(e.free_symbols for e in exprs)) - {r}, key=str))
     compiled = tuple(sympy.lambdify((r, *symbols), e, modules="mpmath", cse=True) for e in exprs)
-    return compiled, symbols, tc.polynomial_parts(F, r) + tc.polynomial_parts(G, r)
+    return compiled, symbols, probing.polynomial_parts(F, r) + probing.polynomial_parts(G, r)
 
 
 def _numeric(problem: Problem, point: Mapping[sympy.Symbol, object], digits: int) -> NumericResult:
@@ -199,7 +199,7 @@ def _numeric(problem: Problem, point: Mapping[sympy.Symbol, object], digits: int
         if orders == (2, 2):
             # error: the T_t = sqrt(h0) d/(4 pi) of a simple zero split off by the root resolution d
             # (h0 = F2 G2 = 1/c_-2^2, c_-2 the double-pole coefficient of 1/sqrt(F G))
-            separation = tc.resolution(r_h.value, dps) if _polys_found(rad) else result.main.radius
+            separation = probing.resolution(r_h.value, dps) if _polys_found(rad) else result.main.radius
             bound = separation / (4 * mpmath.pi * abs(result.main.second))
             T = Measured(mpmath.mpf(0), N.value * bound)
             evidence["T_t_bound"] = float(bound)
@@ -235,13 +235,13 @@ def _residue_at(rad: tp.Radial, angle, point: dict, r_h: mpmath.mpf, digits: int
         raise ValueError(f"no value for {', '.join(map(str, missing))}")
     constants = tuple(point[s] for s in symbols)
     if scale is None:
-        scale = tc.nearest_singularity(polys, point, r_h, abs(r_h) or mpmath.mpf(1))
+        scale = probing.nearest_root_distance(polys, point, r_h, abs(r_h) or mpmath.mpf(1))
     probe = scale / 10**6
     outside = mpmath.re(F(r_h + probe, *constants))
     side = 1 if outside > 0 else -1
     result = tc.contour(lambda z: (F(z, *constants), G(z, *constants)), r_h, scale, side, digits)
     if result.main.orders == (2, 2):  # degenerate, or an inner horizon closer than 20 digits resolve?
-        closer = tc.nearest_singularity(polys, point, r_h, scale, digits=mpmath.mp.dps)
+        closer = probing.nearest_root_distance(polys, point, r_h, scale, digits=mpmath.mp.dps)
         if closer < scale / 10:
             result = tc.contour(lambda z: (F(z, *constants), G(z, *constants)), r_h, closer, side, digits)
     omega_h = mpmath.re(omega(r_h, *constants)) if rad.rotating else mpmath.mpf(0)
