@@ -25,6 +25,7 @@ from crosscheck.claim import Parameter
 from crosscheck.diagnose import diagnose
 from crosscheck.measure import Measured
 from crosscheck.mpfunctions import MPMATH_FUNCTIONS
+from crosscheck.radicals import reduce_radicals
 from crosscheck.results import NumericRow, RouteOutcome, SymbolicCheck
 from crosscheck.timebox import run_limited
 
@@ -33,6 +34,8 @@ __all__ = ["sample_points", "symbolic_verdict", "numeric_rows", "route_status", 
 #: Points keep this fraction of the width from each end (ends may be degenerate).
 END_OFFSET = Fraction(1, 10**6)
 DIFFERENT = 1e-12  # relative difference above which two sides differ
+SCREEN_DIGITS = 30  # precision of the quick look before proof attempts
+SCREEN_DIFFERENT = 1e-8  # a difference this large at 30 digits is no rounding
 MAX_TEXT = 2000  # SymbolicCheck text fields are cut to this length
 
 
@@ -122,29 +125,37 @@ def _with_assumptions(
     return replaced, by_name
 
 
-_CANONICAL_FORMS = (sympy.expand, sympy.cancel, sympy.together, sympy.radsimp, sympy.simplify)
+_CANONICAL_FORMS: tuple[tuple[str, Callable], ...] = (
+    ("expand", lambda t, box: sympy.expand(t)),
+    ("square roots reduced over the parameter ranges", reduce_radicals),
+    ("cancel", lambda t, box: sympy.cancel(t)),
+    ("together", lambda t, box: sympy.together(t)),
+    ("radsimp", lambda t, box: sympy.radsimp(t)),
+    ("simplify", lambda t, box: sympy.simplify(t)),
+)
 
 
-def _is_zero_by(form: Callable, target: sympy.Expr, deadline: float, notes: list[str]) -> bool:
+def _is_zero_by(name: str, form: Callable, target: sympy.Expr, box, deadline: float, notes: list[str]) -> bool:
     try:
-        return _run_limited(lambda: form(target), deadline - time.monotonic()) == 0
+        return _run_limited(lambda: form(target, box), deadline - time.monotonic()) == 0
     except _OutOfTime:
-        notes.append(f"{form.__name__} ran out of time")
+        notes.append(f"{name} ran out of time")
     except Exception as exc:  # sympy raises many kinds; this form just fails
-        notes.append(f"{form.__name__} failed ({type(exc).__name__})")
+        notes.append(f"{name} failed ({type(exc).__name__})")
     return False
 
 
-def _prove_zero(targets: list[sympy.Expr], deadline: float) -> tuple[str | None, list[str]]:
-    """Names of the canonical forms turning every target into 0 (or None), and notes."""
+def _prove_zero(targets: list[sympy.Expr], deadline: float, box=None) -> tuple[str | None, list[str]]:
+    """Names of the canonical forms turning every target into 0 (or None), and notes.
+    `box` holds the parameter ranges (symbol -> exact (lo, hi)) for the forms that use them."""
     notes: list[str] = []
     if all(t == 0 for t in targets):
         return "identical after automatic evaluation", notes
     left, used = list(targets), []
-    for form in _CANONICAL_FORMS:
-        still = [t for t in left if not _is_zero_by(form, t, deadline, notes)]
+    for name, form in _CANONICAL_FORMS:
+        still = [t for t in left if not _is_zero_by(name, form, t, box, deadline, notes)]
         if len(still) < len(left):
-            used.append(form.__name__)
+            used.append(name)
         left = still
         if not left:
             return ", ".join(used), notes
@@ -330,23 +341,47 @@ def symbolic_verdict(
 
     if scaling and not varying:
         return SymbolicCheck("proved", "no parameter varies, so the ratio is constant", **texts)
-    proof, notes = _prove_zero(targets, started + 0.75 * time_budget)
-    if proof is not None:
-        what = "d/d(parameters) of route/claim" if scaling else "route - claim"
-        return SymbolicCheck("proved", f"{proof}: {what} reduces to 0", **texts)
-
     known = set(symbols.values())
     strays = sorted(str(s) for s in (route.free_symbols | claim.free_symbols) - known)
+    points = _unique_points(parameters, 8, seed, symbols)
+    notes: list[str] = []
+    if not strays and _clearly_different(route, claim, points, scaling, started + 0.25 * time_budget):
+        notes.append("the sides differ at a sample point, so no proof was attempted")
+    else:
+        box = {symbols[p.name]: (_rational(p.lo), _rational(p.hi)) for p in parameters}
+        proof, notes = _prove_zero(targets, started + 0.75 * time_budget, box)
+        if proof is not None:
+            what = "d/d(parameters) of route/claim" if scaling else "route - claim"
+            return SymbolicCheck("proved", f"{proof}: {what} reduces to 0", **texts)
     if strays:
         notes.append("free symbols that are not parameters: " + ", ".join(strays))
         return SymbolicCheck("inconclusive", "; ".join(notes), **texts)
-    points = _unique_points(parameters, 8, seed, symbols)
     skipped: list[str] = []
     verdict, method, counterexample = _numeric_verdict(route, claim, points, digits, scaling, started + time_budget, skipped)
     details = notes + skipped
     if details:
         method += " (" + "; ".join(details[:6]) + ("; ..." if len(details) > 6 else "") + ")"
     return SymbolicCheck(verdict, _truncate(method), counterexample=counterexample, **texts)
+
+
+def _clearly_different(route, claim, points, scaling: bool, deadline: float) -> bool:
+    """A cheap look before the proof attempts: at 30 digits, do the sides differ
+    (or, for scaling claims, their ratios) by far more than rounding at the first
+    two points?  Proof attempts on a wrong claim only burn their budget; the
+    numeric verdict then decides and reproduces the difference at higher
+    precision, so a wrong guess here costs time, never a verdict."""
+    try:
+        outcomes = _run_limited(
+            lambda: [_point_difference(route, claim, p, None, SCREEN_DIGITS, scaling) for p in points[:2]],
+            deadline - time.monotonic(),
+        )
+    except _OutOfTime:
+        return False
+    values = [o for o in outcomes if not isinstance(o, str)]
+    if scaling:
+        ratios = [ratio for _, ratio in values]
+        return len(ratios) == 2 and _relative(ratios[0], ratios[1]) > SCREEN_DIFFERENT
+    return any(rel > SCREEN_DIFFERENT for rel, _ in values)
 
 
 def _float(x) -> float:

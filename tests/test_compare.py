@@ -267,3 +267,17 @@ def outcome(route: str, grade: str, status: str) -> RouteOutcome:
 )
 def test_claim_status_follows_design_section_5(outcomes, expected):
     assert claim_status([outcome(*o) for o in outcomes]) == expected
+
+
+def test_a_clearly_wrong_claim_skips_the_proof_attempts():
+    # A factor-2 slip, T = 1/(4 pi M) against Hawking's 1/(8 pi M) (Hawking 1975): the sides
+    # differ by 2 at every point, so the verdict is decided numerically, with no proof attempt.
+    check = symbolic_verdict(1 / (8 * PI * M), 1 / (4 * PI * M), [MASS], time_budget=10.0)
+    assert check.verdict == "disproved"
+    assert "no proof was attempted" in check.method
+
+
+def test_a_scaling_claim_that_scales_is_still_proved():
+    # T and kappa differ by the constant 2 pi (Hawking 1975): equal up to a constant.
+    check = symbolic_verdict(1 / (8 * PI * M), 1 / (4 * M), [MASS], scaling=True)
+    assert check.verdict == "proved"

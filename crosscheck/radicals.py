@@ -1,0 +1,190 @@
+"""Proving an algebraic expression zero by reducing its square roots.
+
+Horizon quantities of rotating and charged holes are rational functions of
+the parameters and of a few square roots (r_+ = M + sqrt(M^2 - a^2)).
+`simplify` and `radsimp` often cannot decide such a difference within a few
+seconds, yet the algebra is elementary:
+
+1. factor each radicand, P = c * f_1^e_1 * ... ; where interval arithmetic
+   over the claim's parameter box fixes the sign of every factor, write
+   sqrt(P) = sqrt(c') * prod g_i^(e_i // 2) * prod sqrt(g_i)^(e_i mod 2) with
+   g_i = +-f_i >= 0 on the box (this is where two different-looking roots,
+   sqrt(M^2 - M^2 chi^2) and M sqrt(1 - chi^2), become the same generator);
+2. write each remaining root sqrt(g) as a new symbol s with s^2 = g;
+3. bring everything over one denominator and reduce the numerator's powers
+   of each s with s^2 -> g.
+
+If the remainder expands to 0 the expression is 0 on the whole parameter
+box, so a zero here is a proof (step 1 holds exactly where the signs were
+proved; steps 2-3 are identities).  A non-zero remainder proves nothing, and
+the caller goes on to other canonical forms.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from fractions import Fraction
+
+import sympy
+from mpmath import iv
+
+__all__ = ["reduce_radicals", "sign_on_box"]
+
+Box = Mapping[sympy.Symbol, tuple[Fraction, Fraction]]
+
+#: Give up (leave the expression alone) beyond this many distinct roots.
+MAX_ROOTS = 8
+#: Bisections of the box when one interval evaluation cannot fix a sign.
+MAX_SPLITS = 5
+
+
+class _Unknown(Exception):
+    """The interval evaluation does not support this expression."""
+
+
+def _interval(expr: sympy.Expr, box: Mapping[sympy.Symbol, object]):
+    """An interval containing expr's values over box (mpmath.iv, outward rounding)."""
+    if expr.is_Symbol:
+        if expr not in box:
+            raise _Unknown(str(expr))
+        return box[expr]
+    if expr.is_Rational:
+        return iv.mpf(int(expr.p)) / int(expr.q)
+    if expr.is_Add or expr.is_Mul:
+        parts = [_interval(a, box) for a in expr.args]
+        total = parts[0]
+        for part in parts[1:]:
+            total = total + part if expr.is_Add else total * part
+        return total
+    if expr.is_Pow and expr.exp.is_Integer:
+        base = _interval(expr.base, box)
+        n = int(expr.exp)
+        if n >= 0:
+            return base**n
+        if base.a > 0 or base.b < 0:
+            return 1 / base ** (-n)
+    raise _Unknown(type(expr).__name__)
+
+
+def _intervals(box: Box) -> dict[sympy.Symbol, object]:
+    return {s: iv.mpf([iv.mpf(lo.numerator) / lo.denominator, iv.mpf(hi.numerator) / hi.denominator])
+            for s, (lo, hi) in box.items()}
+
+
+def _bisected(box: Box) -> tuple[Box, Box]:
+    widest = max(box, key=lambda s: box[s][1] - box[s][0])
+    lo, hi = box[widest]
+    middle = (lo + hi) / 2
+    return {**box, widest: (lo, middle)}, {**box, widest: (middle, hi)}
+
+
+def sign_on_box(expr: sympy.Expr, box: Box, splits: int = MAX_SPLITS) -> int:
+    """+1 if expr >= 0 on all of box, -1 if expr <= 0, 0 if that is not proved."""
+    try:
+        value = _interval(expr, _intervals(box))
+    except (_Unknown, ZeroDivisionError):
+        return 0
+    if value.a >= 0:
+        return 1
+    if value.b <= 0:
+        return -1
+    if splits == 0 or not box:
+        return 0
+    halves = [sign_on_box(expr, half, splits - 1) for half in _bisected(box)]
+    return halves[0] if halves[0] == halves[1] else 0
+
+
+def _half_powers(expr: sympy.Expr) -> list[sympy.Pow]:
+    """Powers with an odd-half exponent of a non-numeric base: sqrt(P), P^(3/2), 1/sqrt(P)..."""
+    return [p for p in expr.atoms(sympy.Pow) if p.exp.is_Rational and p.exp.q == 2 and not p.base.is_number]
+
+
+class _Roots:
+    """The generators s = sqrt(g) met so far, one per distinct g."""
+
+    def __init__(self, box: Box) -> None:
+        self.box = box
+        self.symbols: dict[sympy.Expr, sympy.Symbol] = {}
+
+    def root(self, radicand: sympy.Expr) -> sympy.Expr:
+        """sqrt(radicand), written with the generators (split into factors when
+        their signs are proved on the box, whole otherwise)."""
+        if not _half_powers(radicand) and not radicand.free_symbols & set(self.symbols.values()):
+            try:
+                split = self._split(radicand)
+            except sympy.PolynomialError:  # not a rational function: keep it whole
+                split = None
+            if split is not None:
+                return split
+        return self._generator(radicand)
+
+    def _generator(self, g: sympy.Expr) -> sympy.Symbol:
+        key = sympy.expand(g)
+        if key not in self.symbols:
+            if len(self.symbols) >= MAX_ROOTS:
+                raise ValueError("too many distinct square roots to reduce")
+            self.symbols[key] = sympy.Dummy(f"s{len(self.symbols)}")
+        return self.symbols[key]
+
+    def _split(self, radicand: sympy.Expr) -> sympy.Expr | None:
+        """sqrt(N/D) as sqrt(c) * (factors pulled out) * generators, or None when a
+        factor's sign is not proved on the box."""
+        numerator, denominator = sympy.fraction(sympy.together(radicand))
+        content, result = sympy.S.One, sympy.S.One
+        for polynomial, side in ((numerator, 1), (denominator, -1)):
+            part_content, factors = sympy.factor_list(polynomial)
+            content *= part_content**side
+            for factor, power in factors:
+                sign = sign_on_box(factor, self.box)
+                if sign == 0:
+                    return None
+                content *= sign ** power
+                result *= (sign * factor) ** (side * (power // 2))
+                if power % 2:
+                    result *= self._generator(sign * factor) ** side
+        if not (content.is_number and content.is_positive):
+            return None
+        return sympy.sqrt(content) * result
+
+    def relations(self) -> list[tuple[sympy.Symbol, sympy.Expr]]:
+        return [(s, g) for g, s in self.symbols.items()]
+
+
+def _with_generators(expr: sympy.Expr, roots: _Roots) -> sympy.Expr:
+    """expr with every sqrt(P)^k replaced by (its generators)^k, innermost roots first."""
+    powers = sorted(_half_powers(expr), key=lambda p: len(_half_powers(p.base)))
+    mapping: dict[sympy.Expr, sympy.Expr] = {}
+    for power in powers:  # an inner root is replaced before any root containing it
+        base = power.base.xreplace(mapping)
+        mapping[power] = roots.root(base) ** int(2 * power.exp)
+    return expr.xreplace(mapping)
+
+
+def _reduce_powers(expanded: sympy.Expr, root: sympy.Symbol, radicand: sympy.Expr) -> sympy.Expr:
+    """root^k -> radicand^(k // 2) * root^(k % 2) in an expanded polynomial."""
+    total = sympy.S.Zero
+    for (k,), coefficient in sympy.Poly(expanded, root).terms():
+        total += coefficient * radicand ** (k // 2) * root ** (k % 2)
+    return sympy.expand(total)
+
+
+def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
+    """The numerator of expr after every square root is reduced (see the module text).
+
+    `box` maps parameter symbols to exact (lo, hi) ranges; without it no
+    radicand is split.  Zero means expr is identically zero on the box;
+    anything else is only a remainder.
+    """
+    roots = _Roots(box or {})
+    replaced = _with_generators(expr, roots)
+    numerator, _ = sympy.fraction(sympy.together(replaced))
+    reduced = sympy.expand(numerator)
+    relations = roots.relations()
+    # Reduce generators whose radicands contain other generators first.
+    relations.sort(key=lambda pair: len(pair[1].free_symbols & set(roots.symbols.values())), reverse=True)
+    for root, radicand in relations:
+        if reduced == 0:
+            break
+        if reduced.has(root):
+            reduced = _reduce_powers(reduced, root, radicand)
+    return reduced
