@@ -82,3 +82,22 @@ def test_memory_limit_applies_in_the_worker_only():
     with pytest.raises(WorkerCrashed, match="MemoryError"):
         run_isolated(allocate, Limits(timeout=10, memory_mb=512))
     assert run_isolated(lambda: len(bytearray(100 << 20)), Limits(timeout=10, memory_mb=0)) == 100 << 20
+
+
+def test_a_job_slot_keeps_its_worker_until_it_fails():
+    # Common practice (no source): one long-lived process per slot, replaced only after a death
+    # or a timeout, so that caches survive from one task to the next.
+    with IsolatingExecutor(1, Limits(timeout=1.0, grace=0.2, memory_mb=1024)) as executor:
+        first, second = executor.submit(os.getpid).result(), executor.submit(os.getpid).result()
+        assert first == second != os.getpid()
+        with pytest.raises(WorkerCrashed, match="status 3"):
+            executor.submit(os._exit, 3).result()
+        third = executor.submit(os.getpid).result()
+        assert third not in (first, os.getpid())
+        with pytest.raises(WorkerTimeout):
+            executor.submit(time.sleep, 30).result()
+        fourth = executor.submit(os.getpid).result()
+        assert fourth not in (first, third, os.getpid())
+        # A task that cannot be pickled runs in a fork of its own; the slot's worker stays.
+        assert executor.submit(lambda: os.getpid()).result() != fourth
+        assert executor.submit(os.getpid).result() == fourth
