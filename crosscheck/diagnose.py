@@ -218,10 +218,11 @@ class Suspect(list):
     """Per-point values of a suspicious factor, with the kind of mistake it stands for.
 
     A plain sequence of values in `diagnose(candidates=...)` is a Killing
-    normalisation suspect (the original meaning); a `Suspect` says what else it
-    is -- kind 'horizon' for "the claim is the same quantity at another horizon"
-    -- so that the diagnosis names the mistake instead of calling every
-    non-constant ratio a normalisation.
+    normalisation suspect named by its factor (the original meaning); a
+    `Suspect` says what else it is -- kind 'horizon' for "the claim is the same
+    quantity at another horizon", kind 'choice' for another normalisation whose
+    name is the whole sentence -- so that the diagnosis names the mistake
+    instead of calling every non-constant ratio a normalisation.
     """
 
     def __init__(self, values: Sequence, kind: str = "normalization") -> None:
@@ -238,6 +239,13 @@ def _suspect(match: tuple[str, bool], kinds: Mapping[str, str]) -> Diagnosis:
             return Diagnosis("horizon", text)
         text = f"wrong horizon: {name}: claim/route is the ratio of the quantity at the two horizons at every point"
         return Diagnosis("horizon", text)
+    if kinds.get(name) == "constant":
+        factor = f"1/({name})" if inverted else name
+        text = f"constant factor {factor}: the claim is {factor} times the route's value (an SI constant lost or doubled?)"
+        return Diagnosis("factor", text, factor=factor)
+    if kinds.get(name) == "choice":  # the name is already the sentence saying which choice
+        which = "route/claim (not claim/route)" if inverted else "claim/route"
+        return Diagnosis("normalization", f"{name}: {which} is the ratio of the two normalisation factors at every point")
     return _normalization(match)
 
 

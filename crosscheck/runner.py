@@ -159,7 +159,8 @@ def _checked_route(claim: Claim, route: Route, problem: Problem, options: RunOpt
     symbolic_result, symbolic_check, sides = _symbolic_side(claim, route, problem, options, notes)
     numeric_rows, numeric_result, points, numeric_values = _numeric_side(claim, recorder, problem, options, notes)
     status, reason = compare.route_status(symbolic_check, numeric_rows)
-    if route.grade == "estimate" and not scaling and status == "disagree":
+    if route.grade == "estimate" and not scaling and status in ("agree", "disagree"):
+        # An exact claim equal to a rough estimate is no more confirmed than one that differs.
         status, reason = "inconclusive", "estimate routes vote only on 'agreement: scaling' claims; " + reason
     diagnosis = None
     if status == "disagree" or (route.grade == "estimate" and not scaling):

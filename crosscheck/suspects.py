@@ -38,6 +38,7 @@ from crosscheck.spacetimes.base import Normalization, Spacetime
 from crosscheck.spacetimes.evaluation import real_function
 from crosscheck.spacetimes.horizon import equatorial, horizon_radius_numeric, killing_norm, positive_roots_numeric
 from crosscheck.spacetimes.normalize import normalization_factor_numeric
+from crosscheck.units import SI_CONSTANTS
 
 #: Observables the wrong-horizon suspect can evaluate at another horizon.
 _AT_A_HORIZON = frozenset({"T", "kappa", "r_h", "A", "S"})
@@ -57,6 +58,8 @@ def suspicious_factors(
     if spacetime is None:
         return {}
     candidates: dict[str, list] = dict(_horizons(claim, points, digits))
+    if claim.units == "si":
+        candidates.update(_si_constants(len(points), digits))
     if not claim.observables & {"T", "kappa", "T_loc"}:
         return candidates
     ours = spacetime.normalization
@@ -65,8 +68,30 @@ def suspicious_factors(
             continue
         factors = _ratios(spacetime, alternative, points, digits)
         if factors is not None:
-            candidates[f"Killing normalisation: the claim uses the {label} normalisation, not {_describe(ours)}"] = factors
+            name = f"Killing normalisation: the claim uses the {label} normalisation, not {_describe(ours)}"
+            candidates[name] = Suspect(factors, "choice")
     return candidates
+
+
+#: SI constants (and the products that convert between kappa, T and energies) that a
+#: derivation in SI units drops or doubles; "constant factor 1.38e-23" helps nobody.
+_SI_SUSPECTS = {
+    "k_B": ("k_B",), "c": ("c",), "c^2": ("c", "c"), "c^3": ("c", "c", "c"), "hbar": ("hbar",),
+    "G": ("G",), "hbar/k_B": ("hbar", "/k_B"), "hbar*c/k_B": ("hbar", "c", "/k_B"),
+}
+
+
+def _si_constants(count: int, digits: int) -> dict[str, Suspect]:
+    """name -> the constant at every point, for SI claims."""
+    suspects = {}
+    with mpmath.workdps(digits + 10):
+        for name, parts in _SI_SUSPECTS.items():
+            value = mpmath.mpf(1)
+            for part in parts:
+                constant = mpmath.mpf(SI_CONSTANTS[part.lstrip("/")].evalf(digits + 10))
+                value = value / constant if part.startswith("/") else value * constant
+            suspects[name] = Suspect([value] * count, "constant")
+    return suspects
 
 
 def _ratios(spacetime, alternative: Normalization, points, digits: int) -> list | None:
