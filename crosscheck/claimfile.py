@@ -156,6 +156,13 @@ def read_claim(node: YNode, known_routes: Collection[str] | None = None) -> Clai
     spacetime, metric_names = None, {}
     if "spacetime" in body.items:
         spacetime, metric_names = read_spacetime(body.items["spacetime"], names, units)
+    if units == "si" and "detector" in body.items:
+        # The routes read trajectory parameters in geometric units (a in 1/length); an
+        # acceleration in m/s^2 taken as such would be off by c^2 without any error.
+        raise body.key_loc("detector").error(
+            "detector", "detector claims are read in geometric units only: write the trajectory with "
+            "units: geometric (a in 1/length), or state an SI temperature as a horizon claim (e.g. the rindler family)"
+        )
     detector = read_detector(body.items["detector"], names, body.items.get("band")) if "detector" in body.items else None
     lhs, rhs, text, observables, line, column = _read_equation(body, names, metric_names, parameters)
     dimension_sides = None

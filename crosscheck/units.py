@@ -493,7 +493,7 @@ def check_claim_dimensions(
         raise
     except DimensionError as error:
         return f"dimension: {error}"
-    if left == right:
+    if left == right or _dimension_free(lhs) or _dimension_free(rhs):  # T = 0 fits any dimension
         return None
     sides = [(lhs, left, right)] + ([] if mentioned_observables(lhs) else [(rhs, right, left)])
     for side, need, has in sides:  # the observable side: lhs, or rhs if lhs is a formula

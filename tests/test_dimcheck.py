@@ -95,3 +95,17 @@ claim: T_loc(2*M*(1 + d)) = 1/(8*pi*M*sqrt(1 - 1/(1 + d)))
 """
     assert check(text).status == "agree"
     assert check(text.replace("8*pi*M*sqrt", "8*pi*M**2*sqrt")).status == "disagree"
+
+
+def test_a_zero_temperature_fits_any_dimension():
+    # Source: Gibbons & Hawking 1977 (from memory): the extremal Reissner-Nordstrom hole,
+    # Q = M, has T = 0; a bare 0 carries no dimension (common practice).
+    text = """id: test/extremal
+spacetime: {name: reissner-nordstrom, horizon: M}
+parameters: {M: [0.5, 20]}
+where: {Q: M}
+claim: T = 0
+"""
+    [claim], errors = load_claim_text(text, "extremal.yaml")
+    assert not errors
+    assert dimension_outcome(claim).status == "agree"

@@ -31,8 +31,29 @@ LEAST_ROUTES = {"T": 5, "kappa": 5}
 
 def test_library_loads_without_errors():
     assert LOADED.errors == ()
-    assert len(LOADED.claims) >= 30
+    assert len(LOADED.claims) >= 42
     assert all(claim.sources for claim in LOADED.claims)
+    assert all(claim.title != claim.id for claim in LOADED.claims)
+
+
+# Source: DESIGN.md section 3, the built-in families the claim format promises.
+DESIGN_FAMILIES = frozenset({
+    "minkowski", "rindler", "schwarzschild", "reissner-nordstrom", "kerr", "kerr-newman", "de-sitter",
+    "schwarzschild-de-sitter", "schwarzschild-anti-de-sitter", "btz", "tangherlini", "charged-dilaton",
+})
+
+
+def test_library_covers_every_family_form_and_observable():
+    # Source: DESIGN.md section 3 (families, the static/stationary/metric forms, the observables, SI units).
+    spacetimes = [claim.spacetime for claim in LOADED.claims if claim.spacetime is not None]
+    assert DESIGN_FAMILIES <= {s.family for s in spacetimes}
+    written_out = {s.metric.form for s in spacetimes if s.family is None}
+    assert {"static", "stationary", "metric"} <= written_out
+    mentioned = set().union(*(claim.observables for claim in LOADED.claims))
+    assert {"T", "kappa", "A", "S", "Omega", "Phi", "r_h", "a_loc", "T_loc", "T_eff", "rate"} <= mentioned
+    assert {"uniform-acceleration", "circular"} <= {c.detector.trajectory for c in LOADED.claims if c.detector}
+    si = [claim for claim in LOADED.claims if claim.units == "si"]
+    assert {"T", "S"} <= set().union(*(claim.observables for claim in si))
 
 
 def run_library(options: RunOptions) -> dict:
