@@ -266,8 +266,10 @@ class RootTrack:
         with mpmath.workdps(dps):
             start = thermo.spec_horizon(mpmath.mpf(1))
             self.floor = start.error / abs(start.value)
-            self.grid = [mpmath.mpf(1), mpmath.mpf(1) / 2]
-            self.roots = [start.value, thermo.spec_horizon(self.grid[1]).value]
+            # Quarter octaves down to 1/2 from the specification's own root choice: a path on
+            # which a dimensionless parameter scales too (Q = q M, q -> lambda q) curves there.
+            self.grid = [mpmath.mpf(2) ** (-mpmath.mpf(k) / 4) for k in range(5)]
+            self.roots = [start.value] + [thermo.spec_horizon(g).value for g in self.grid[1:]]
             while self.grid[-1] > self.LOWEST:
                 self._extend()
             self.keys = [-mpmath.log(g) for g in self.grid]  # ascending, for bisection
