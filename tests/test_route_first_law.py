@@ -139,6 +139,16 @@ def test_smarr_with_a_charge_ratio_parameter():
     assert_agrees(route, symbolic=False)
 
 
+@pytest.mark.slow
+def test_entropy_with_a_charge_ratio_up_to_near_extremality():
+    # Source: Bekenstein 1973 / Hawking 1975 (from memory): S = pi r_+^2, r_+ = M + sqrt(M^2 - Q^2).
+    # With Q = q M the path (lambda M, lambda q) bends the horizon track between lambda = 1
+    # and 1/2 (r_+ = lambda M (1 + sqrt(1 - lambda^2 q^2))); at q = 0.95 it must still be followed.
+    route = outcome("{name: reissner-nordstrom}", "{M: [0.5, 20], q: [0, 0.95]}", "S = pi*(M + sqrt(M**2 - Q**2))**2",
+                    "where: {Q: q*M}\n")
+    assert_agrees(route, symbolic=False)
+
+
 def test_wrong_entropy_is_diagnosed():
     # Source: S = 4 pi M^2 (Hawking 1975); the factor 2 is this test's corruption.
     route = outcome("{name: schwarzschild}", "{M: [0.5, 20]}", "S = 8*pi*M**2")
