@@ -244,3 +244,16 @@ def test_claims_through_the_runner():
     # Source: Myers & Perry 1986 (from memory): T = 1/(2 pi sqrt(mu)) in D = 5.
     text = "id: t/t\nspacetime: {name: tangherlini, dim: 5}\nparameters: {mu: [0.5, 20]}\nclaim: T = 1/(2*pi*sqrt(mu))\n"
     assert _run(text).status == "agree"
+
+
+def test_symbolic_side_is_its_own_residue_derivation():
+    # Route independence: the Bogoliubov symbolic side derives kappa_t from the residue of the
+    # tortoise integrand and reads T off |alpha/beta|^2, without the ray-peeling Taylor series.
+    import crosscheck.routes.bogoliubov as module
+    assert "_ray_peeling_series" not in open(module.__file__).read()
+    steps = symbolic("reissner-nordstrom").steps
+    assert any("Res_(r = r_h)" in step.label for step in steps)
+    # Source: exp(2 pi omega/kappa) for the exponential map (PHYSICS.md, "bogoliubov"), sympy here.
+    omega, kappa_t = sympy.symbols("omega kappa_t", positive=True)
+    ratio = next(step.expr.rhs for step in steps if "alpha/beta" in str(step.expr.lhs))
+    assert sympy.simplify(ratio - sympy.exp(2 * sympy.pi * omega / kappa_t)) == 0

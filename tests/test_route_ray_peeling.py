@@ -158,7 +158,7 @@ def relative(x, y) -> mpmath.mpf:
 
 def test_route_contract():
     assert isinstance(ROUTE, Route)
-    assert (ROUTE.name, ROUTE.grade, ROUTE.version) == ("ray-peeling", "exact", "1")
+    assert (ROUTE.name, ROUTE.grade, ROUTE.version) == ("ray-peeling", "exact", "2")
     assert ROUTE.observables == {"kappa", "T"}
 
 

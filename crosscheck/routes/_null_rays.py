@@ -20,6 +20,7 @@ coordinate b = integral sqrt(F/G) dx of ingoing Eddington-Finkelstein form
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 
@@ -29,6 +30,7 @@ import sympy
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.numerics import richardson_limit
+from crosscheck.routes._ray_peeling_compiled import at_horizon, compiled
 from crosscheck.spacetimes.base import Metric, Spacetime
 from crosscheck.spacetimes.evaluation import as_sympy, to_mp
 from crosscheck.spacetimes.forms import lone_time_radial_term
@@ -98,15 +100,9 @@ def _completed_square(metric: Metric, angles: dict) -> RadialForm:
 
 
 def compile_at(expr: sympy.Expr, r: sympy.Symbol, point: Point) -> Callable:
-    """r -> expr at the parameter point, mpmath arithmetic (complex r allowed)."""
-    expr = as_sympy(expr)
-    symbols = sorted(expr.free_symbols - {r}, key=str)
-    missing = [s for s in symbols if s not in point]
-    if missing:
-        raise ValueError(f"cannot evaluate {expr}: no value for {', '.join(map(str, missing))}")
-    function = sympy.lambdify((r, *symbols), expr, modules="mpmath")
-    values = [point[s] for s in symbols]
-    return lambda x: function(x, *values)
+    """r -> expr at the parameter point, mpmath arithmetic (complex r allowed); the sympy
+    translation is cached per expression, so the per-point calls of a problem share it."""
+    return compiled(expr, r, point)
 
 
 def static_side_numeric(f: Callable, g: Callable, r_h: mpmath.mpf, scale: mpmath.mpf) -> int:
@@ -124,18 +120,29 @@ def static_side_numeric(f: Callable, g: Callable, r_h: mpmath.mpf, scale: mpmath
 # --------------------------------------------------------------------------- numeric radial functions
 
 
+@functools.lru_cache(maxsize=64)
+def _equatorial_norm(metric: Metric) -> sympy.Expr:
+    """The Killing norm in the equatorial plane, once per metric (its trigonometric
+    simplification costs more than a whole parameter point)."""
+    return equatorial(killing_norm(metric), metric)
+
+
 class Radial:
     """F G, F/G and the matching function near r_h at one parameter point, in x (complex allowed)."""
 
-    def __init__(self, form: RadialForm, spacetime: Spacetime, point: Point, r_h: Measured, dps: int) -> None:
+    def __init__(self, form: RadialForm, spacetime: Spacetime, point: Point, r_h: Measured, dps: int,
+                 scale: mpmath.mpf | None = None) -> None:
+        """`scale`: the near-horizon size found by an earlier Radial at the same point (it
+        depends on the metric and r_h only), to skip its root finding."""
         self.form, self.dps, self.r_h = form, dps, r_h
         with mpmath.workdps(dps):
             point = {s: to_mp(v, dps) for s, v in point.items()}
             F, G = compile_at(form.F, form.r, point), compile_at(form.G, form.r, point)
-            self._fg = lambda r: F(r) * G(r)  # noqa: E731
-            self._f_over_g = lambda r: F(r) / G(r)  # noqa: E731
-            self.scale = self._scale(spacetime, point)
+            self.scale = +scale if scale is not None else self._scale(spacetime, point)
             self.side = static_side_numeric(F, G, r_h.value, self.scale)
+            # F G and F/G in x, prepared once: two Horner sums per call (`_ray_peeling_compiled`)
+            self._fg = at_horizon(form.F * form.G, form.r, point, r_h.value, self.side, dps)
+            self._f_over_g = at_horizon(form.F / form.G, form.r, point, r_h.value, self.side, dps)
             self.areal = None
             if form.R is not None and form.R.has(form.r):
                 R, dR = compile_at(form.R, form.r, point), compile_at(sympy.diff(form.R, form.r), form.r, point)
@@ -148,7 +155,7 @@ class Radial:
         scale = abs(r_h) or mpmath.mpf(1)
         try:
             metric = spacetime.metric
-            roots = positive_roots_numeric(equatorial(killing_norm(metric), metric), metric.radial, point, self.dps - 15)
+            roots = positive_roots_numeric(_equatorial_norm(metric), metric.radial, point, self.dps - 15)
         except (CannotCompute, ValueError, ZeroDivisionError):
             roots = []
         for root in roots:
@@ -161,10 +168,10 @@ class Radial:
         return self.r_h.value + self.side * x
 
     def fg(self, x: object) -> object:
-        return self._fg(self.r(x))
+        return self._fg(x)
 
     def f_over_g(self, x: object) -> object:
-        return self._f_over_g(self.r(x))
+        return self._f_over_g(x)
 
     def order(self, f: Callable, x0: mpmath.mpf | None = None) -> int:
         """Order of the zero of f at x = 0, from |f(2 x0)/f(x0)| with x0 well inside the region."""

@@ -1,4 +1,5 @@
-"""Taylor series at the horizon for the ray-peeling and Bogoliubov routes (private helpers).
+"""Taylor series at the horizon for the ray-peeling route (private helpers; the Bogoliubov
+route has its own derivation, `_bogoliubov_symbolic`).
 
 The late-time exponent of outgoing null rays from the series of F G (and of the function
 that matches the ray map across the collapsing shell) at r_h, with each Taylor

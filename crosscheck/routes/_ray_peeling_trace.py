@@ -24,6 +24,11 @@ from crosscheck.measure import Measured
 from crosscheck.routes._null_rays import Radial, limit_at_zero
 
 MAX_LEVELS = 16  # extrapolation levels of one Bulirsch-Stoer step
+# First offsets delta = scale 10^-j tried, j in this order.  Measured (Kerr, SdS at 15 and 30
+# digits): from j = 3 the Richardson error is 1e-5 of the ODE error that dominates the
+# estimate, with digits/3 offsets instead of digits/3 + 2 from j = 2, and rays launched
+# nearer the horizon need fewer Bulirsch-Stoer levels: 25-40 % fewer ODE calls.
+_START_EXPONENTS = (3, 4, 5)
 
 
 def midpoint(phi: Callable, y0: mpmath.mpf, H: mpmath.mpf, n: int) -> mpmath.mpf:
@@ -99,12 +104,16 @@ class PeelingRate:
 def peeling_rate(radial: Radial, digits: int, steps: int, degenerate: bool = False) -> tuple[Measured, list, PeelingRate]:
     """kappa_t from pairs of rays: Richardson extrapolation of rate(delta) to delta = 0.
     Error: the extrapolation's, plus the ODE error amplified by Richardson, plus the
-    shift of the offsets by r_h's uncertainty (slope of rate(delta) times that error).
+    shift of the offsets by r_h's uncertainty (slope of rate(delta) times that error), plus
+    the rounding of the pair's separation.
     A degenerate horizon (rate(delta) ~ delta -> 0) is sampled from one starting offset only."""
     rate = PeelingRate(radial, digits, mpmath.mpf(9) / 8 if degenerate else mpmath.sqrt(2))
     with mpmath.workdps(radial.dps):
-        limit, samples = limit_at_zero(rate, radial.scale, digits, steps, (2,) if degenerate else (2, 3, 4, 5))
+        limit, samples = limit_at_zero(rate, radial.scale, digits, steps, (2,) if degenerate else _START_EXPONENTS)
         amplification = mpmath.fprod((2**p + 1) / mpmath.mpf(2**p - 1) for p in range(1, steps))
         slope = abs(mpmath.mpf(samples[0][1]) - limit.value) / mpmath.mpf(samples[0][0])
-        error = limit.error + amplification * rate.ode_error + slope * radial.r_h.error
+        # the pair's separation is a difference of two ends ~ ln(delta): it keeps dps - log10(1/eps)
+        # digits, rounding noise that an exactly constant rate (Rindler) shows in no other term
+        rounding = amplification * mpmath.mpf(10) ** (3 - radial.dps) / rate.eps * abs(limit.value)
+        error = limit.error + amplification * rate.ode_error + slope * radial.r_h.error + rounding
         return Measured(limit.value, error), samples, rate

@@ -11,8 +11,10 @@ regular null coordinate for planar metrics such as Rindler), continues it to com
 integrates alpha and beta on rotated contours at several late-time windows
 (`_bogoliubov_integrals`), extrapolates ln|alpha/beta|^2 to late times and fits
 ln|alpha/beta|^2 = omega/T_t over three frequencies.
-Symbolic side: the map's exponent from the Taylor series of F G and R at r_h, and the
-closed form |beta/alpha|^2 = exp(-2 pi omega/kappa_t) of the exponential map.
+Symbolic side (`_bogoliubov_symbolic`, its own derivation): the log coefficient of the
+tortoise coordinate as the residue of (r - r_h)/(F G) at r_h (polynomial division), the
+order of the matching function, the exponential map p = p0 - C exp(-kappa_t u) they imply,
+and |alpha/beta|^2 = exp(2 pi omega/kappa_t) simplified from its Gamma-function form.
 """
 
 from __future__ import annotations
@@ -27,8 +29,9 @@ import sympy
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.routes import _null_rays as nr
-from crosscheck.routes import _ray_peeling_series as taylor
+from crosscheck.probing import probe_points
 from crosscheck.routes._bogoliubov_integrals import LateTimeCoefficients, thermal_fit
+from crosscheck.routes._bogoliubov_symbolic import map_exponent
 from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult
 from crosscheck.spacetimes.horizon import horizon_radius_numeric
 from crosscheck.spacetimes.normalize import normalization_factor, normalization_factor_numeric
@@ -48,7 +51,7 @@ class BogoliubovRoute:
     name: ClassVar[str] = "bogoliubov"
     title: ClassVar[str] = "Bogoliubov coefficients of the late-time ray map of a collapse"
     grade: ClassVar[Literal["exact", "estimate"]] = "exact"
-    version: ClassVar[str] = "2"
+    version: ClassVar[str] = "3"
     observables: ClassVar[frozenset[str]] = OBSERVABLES
 
     def applies(self, problem: Problem) -> str | None:
@@ -90,31 +93,36 @@ def _spacetime(problem: Problem):
     return problem.spacetime
 
 
+def _points(problem: Problem) -> list[dict]:
+    """The generic probe points (crosscheck.probing), with a generic value for any metric
+    symbol that is not a parameter, so that zero tests see every symbol."""
+    metric = problem.spacetime.metric
+    extra = sorted(metric.g.free_symbols - set(metric.coords) - set(problem.parameters), key=str)
+    generic = (sympy.Rational(13, 10), sympy.Rational(17, 10), sympy.Rational(11, 10))
+    return [{**point, **{symbol: generic[k] for symbol in extra}} for k, point in enumerate(probe_points(problem))]
+
+
 def _symbolic(problem: Problem) -> SymbolicResult:
     spacetime = _spacetime(problem)
-    metric = spacetime.metric
-    form = nr.radial_form(metric)
-    points = taylor.sample_points(problem.parameters, problem.ranges, metric.g.free_symbols - set(metric.coords))
-    exponent = taylor.symbolic_exponent(spacetime, form, points, matching=True)
+    form = nr.radial_form(spacetime.metric)
+    points = _points(problem)
+    exponent = map_exponent(spacetime, form, points)
     steps = list(exponent.steps)
-    omega, kappa_t = sympy.Symbol("omega", positive=True), sympy.Symbol("kappa_t", positive=True)
-    if exponent.degenerate:
-        raise CannotCompute(f"{exponent.reason}: the late-time map is not exponential, so there is no thermal ratio to fit "
-                            "(the ray-peeling route reports the rate 0)")
-    steps.append(Step("late-time map p(u) = v_H - C exp(-kappa_t u); x = C exp(-kappa_t u), x -> -+ i y: "
-                      "alpha, beta ~ Gamma(i omega/kappa_t) (-+ i omega')^(-i omega/kappa_t)",
-                      sympy.Eq(sympy.Symbol("|beta/alpha|**2"), sympy.exp(-2 * sympy.pi * omega / kappa_t), evaluate=False)))
-    N = normalization_factor(spacetime, exponent.representative)
+    N = normalization_factor(spacetime, points[0])
     steps.append(Step("normalisation of the Killing time, xi = N d/dt (omega conjugate to N t)", sympy.Eq(sympy.Symbol("N"), N, evaluate=False)))
-    T = taylor.tidy(N * exponent.kappa_t / (2 * sympy.pi))
-    steps.append(Step("Planck spectrum: ln|alpha/beta|^2 = omega/T, T = N kappa_t/(2 pi)", sympy.Eq(sympy.Symbol("T"), T, evaluate=False)))
-    values = {"T": T, "kappa": taylor.tidy(2 * sympy.pi * T)}
-    side = "r > r_h" if exponent.side > 0 else "r < r_h"
-    provenance = (f"{form.how}; Taylor series of F G and of the matching function at r_h = {exponent.r_h} ({side}), "
-                  "coefficients tested for zero at 3 parameter points", exponent.reason,
-                  "closed form of the Bogoliubov integrals of the exponential map (Gamma functions, rotated contour)",
+    T = _tidy(N * exponent.T_t)
+    steps.append(Step("Planck spectrum in the Killing frequency: T = N T_t", sympy.Eq(sympy.Symbol("T"), T, evaluate=False)))
+    values = {"T": T, "kappa": _tidy(2 * sympy.pi * T)}
+    provenance = (f"{form.how}; F G = P/Q, P divided by (r - r_h)^k at r_h = {exponent.r_h}, remainders tested for zero "
+                  f"at {len(points)} parameter points", exponent.reason,
+                  "Bogoliubov ratio of the exponential map from its Gamma-function form (rotated contours), simplified by sympy",
                   f"normalisation '{spacetime.normalization.kind}': N = {N}")
     return SymbolicResult(values={k: v for k, v in values.items() if k in _targets(problem)}, steps=tuple(steps), provenance=provenance)
+
+
+def _tidy(expr: sympy.Expr) -> sympy.Expr:
+    """simplify small expressions only (sympy can take minutes on large radical ones)."""
+    return sympy.simplify(expr) if sympy.count_ops(expr) <= 150 else expr
 
 
 class _Numeric:
@@ -157,7 +165,7 @@ class _Numeric:
             return self._fit(ray_map, radial, window, unit, dps)
 
     def _fit(self, ray_map: nr.RayMap, radial: nr.Radial, window: mpmath.mpf, unit: mpmath.mpf, dps: int) -> Measured:
-        coefficients = LateTimeCoefficients(ray_map, window, unit, self.digits, dps)
+        coefficients = LateTimeCoefficients(ray_map, window, unit, self.digits, dps, MULTIPLES)
         if not coefficients.converged:
             raise CannotCompute("the continued ray map did not converge on the rotated contour (a singularity too near the horizon)")
         ratios = [coefficients.log_ratio(k, LEVELS) for k in MULTIPLES]

@@ -45,7 +45,7 @@ class RayPeelingRoute:
     name: ClassVar[str] = "ray-peeling"
     title: ClassVar[str] = "Exponential peeling of outgoing null rays off the horizon"
     grade: ClassVar[Literal["exact", "estimate"]] = "exact"
-    version: ClassVar[str] = "1"
+    version: ClassVar[str] = "2"
     observables: ClassVar[frozenset[str]] = OBSERVABLES
 
     def applies(self, problem: Problem) -> str | None:
@@ -67,6 +67,11 @@ class RayPeelingRoute:
 
     def numeric(self, problem: Problem, point: Mapping[sympy.Symbol, object], digits: int) -> NumericResult:
         return _Numeric(problem, point, digits).result()
+
+
+def offsets(digits: int) -> int:
+    """Number of ray-pair offsets in the Richardson extrapolation (`_ray_peeling_trace`)."""
+    return max(8, digits // 3)
 
 
 def _targets(problem: Problem) -> frozenset[str]:
@@ -101,10 +106,11 @@ class _Numeric:
             raise CannotCompute("no spacetime")
         self.problem, self.spacetime, self.point, self.digits = problem, problem.spacetime, dict(point), digits
         self.metric = self.spacetime.metric
-        self.steps = max(10, digits // 3 + 2)
+        self.steps = offsets(digits)
         self.dps = digits + (digits + 6) // 2 + 12  # eps of the ray pair costs half the digits
         self.evidence: dict[str, object] = {}
         self.provenance: list[str] = []
+        self.scale: mpmath.mpf | None = None  # near-horizon size, found once per point (`nr.Radial`)
 
     def result(self) -> NumericResult:
         with mpmath.workdps(self.dps):
@@ -130,7 +136,7 @@ class _Numeric:
         if self.digits <= _CHECK_DIGITS:
             return self.kappa_t(r_h, theta)
         saved = self.digits, self.steps, self.dps
-        self.digits, self.steps = _CHECK_DIGITS, max(10, _CHECK_DIGITS // 3 + 2)
+        self.digits, self.steps = _CHECK_DIGITS, offsets(_CHECK_DIGITS)
         self.dps = _CHECK_DIGITS + (_CHECK_DIGITS + 6) // 2 + 12
         try:
             with mpmath.workdps(self.dps):
@@ -140,11 +146,12 @@ class _Numeric:
 
     def kappa_t(self, r_h: Measured, theta: sympy.Expr) -> Measured:
         form = nr.radial_form(self.metric, theta)
-        radial = nr.Radial(form, self.spacetime, self.point, r_h, self.dps)
+        radial = nr.Radial(form, self.spacetime, self.point, r_h, self.dps, self.scale)
+        self.scale = radial.scale
         extra = int(2 * mpmath.log10((abs(r_h.value) or 1) / radial.scale))  # another horizon close by: F G cancels
         if extra > 0:
             with mpmath.workdps(self.dps + extra):
-                return self._kappa_t(form, nr.Radial(form, self.spacetime, self.point, r_h, self.dps + extra), theta)
+                return self._kappa_t(form, nr.Radial(form, self.spacetime, self.point, r_h, self.dps + extra, self.scale), theta)
         return self._kappa_t(form, radial, theta)
 
     def _kappa_t(self, form: nr.RadialForm, radial: nr.Radial, theta: sympy.Expr) -> Measured:
@@ -182,7 +189,7 @@ class _Numeric:
         """Late-time ray map of the null-shell collapse at 20 digits: -d ln(dp/du)/du vs u,
         extrapolated to u = infinity; a second estimate of kappa_t, kept as evidence."""
         with mpmath.workdps(_EVIDENCE_DPS):
-            radial = nr.Radial(form, self.spacetime, self.point, Measured(+r_h.value, +r_h.error), _EVIDENCE_DPS)
+            radial = nr.Radial(form, self.spacetime, self.point, Measured(+r_h.value, +r_h.error), _EVIDENCE_DPS, self.scale)
             s = nr.log_coefficient(radial, 12, 8)
             ray_map = nr.RayMap(radial, s)
             x0 = radial.scale / 100
