@@ -290,3 +290,50 @@ def test_a_wrong_horizon_is_an_error_not_a_value():
         ROUTE.symbolic(prob)
     with pytest.raises(ValueError, match="not a horizon"):
         ROUTE.numeric(prob, mp_point(exact_point(prob, {"M": "1"})), 15)
+
+
+# --- closed forms for rotating horizons: rational in r_h, so a claim is proved, not only matched
+
+
+def test_kerr_closed_form_is_rational_in_the_horizon_root_and_proved():
+    # Source: Hawking, Commun. Math. Phys. 43, 199 (1975): T = sqrt(M^2 - a^2)/(4 pi M (M + sqrt(M^2 - a^2))).
+    from crosscheck.compare import symbolic_verdict
+
+    text = claim("{name: kerr}", "{M: [0.5, 20], chi: [0, 0.95]}", "{a: chi*M}",
+                 "T = sqrt(M**2 - a**2)/(4*pi*M*(M + sqrt(M**2 - a**2)))")
+    the_claim, prob = problem(text)
+    T = ROUTE.symbolic(prob).values["T"]
+    # no root of an expression that itself has a root (what sympy could not decide in time)
+    assert not any(any(not q.exp.is_Integer for q in p.base.atoms(sympy.Pow))
+                   for p in T.atoms(sympy.Pow) if not p.exp.is_Integer)
+    assert symbolic_verdict(T, the_claim.rhs, the_claim.parameters, time_budget=3.0).verdict == "proved"
+
+
+def test_field_sqrt_of_a_square_in_the_horizon_field():
+    # Source: independent algebra written here: with Delta = r^2 - 2 M r + a^2 = 0 (Kerr, Boyer-Lindquist,
+    # from memory), z = (r - M)^2 (r^2 + a^2)/(2 M^3 r^3) equals ((r - M)/(M r))^2 at the root, a square in
+    # the field though not as written; its root must square back to z at the actual root
+    # r_h = M + sqrt(M^2 - a^2) and stay finite as a -> 0 (r_h -> 2 M).
+    from crosscheck.fieldroots import field_sqrt
+
+    M, a, rh = sympy.symbols("M a rh", positive=True)
+    modulus = sympy.Poly(rh**2 - 2 * M * rh + a**2, rh)
+    z = sympy.expand((rh - M) ** 2 * (rh**2 + a**2)) / (M**2 * rh**2 * sympy.expand(2 * M * rh))
+    candidates = field_sqrt(z, modulus)
+    assert candidates
+    best = candidates[0]
+    assert best.is_rational_function(M, a, rh)
+    value = {M: sympy.Rational(3, 2), a: sympy.Rational(4, 5)}
+    root = sympy.Rational(3, 2) + sympy.sqrt(sympy.Rational(9, 4) - sympy.Rational(16, 25))
+    at = {**value, rh: root}
+    assert abs(sympy.N((best**2 - z).subs(at), 40)) < 1e-35
+    assert sympy.N(best.subs({M: 1, a: 0, rh: 2}), 20).is_finite
+
+
+def test_field_sqrt_refuses_a_non_square():
+    # Source: common practice: r_h itself has no square root in Q(M, a)(r_h) (its norm a^2 is a square,
+    # but 2 M +- 2 a, the candidate v^2 (trace -+ 2 sqrt(norm)) / discriminant, are not).
+    from crosscheck.fieldroots import field_sqrt
+
+    M, a, rh = sympy.symbols("M a rh", positive=True)
+    assert field_sqrt(rh, sympy.Poly(rh**2 - 2 * M * rh + a**2, rh)) == []

@@ -304,3 +304,16 @@ def test_a_wrong_horizon_is_an_error_not_a_value():
         ROUTE.symbolic(prob)
     with pytest.raises(ValueError, match="not a horizon|zeros"):
         ROUTE.numeric(prob, mp_point(exact_point(prob, {"M": "1"})), 15)
+
+
+def test_kerr_newman_closed_form_is_proved():
+    # Source: Smarr, Phys. Rev. Lett. 30, 71 (1973): kappa = (r+ - r-)/(2 (r+^2 + a^2)).
+    from crosscheck.compare import symbolic_verdict
+
+    text = claim("{name: kerr-newman}", "{M: [0.5, 20], chi: [0, 0.7], q: [0, 0.7]}",
+                 "{a: chi*M, Q: q*M, rp: M + sqrt(M**2 - a**2 - Q**2), rm: M - sqrt(M**2 - a**2 - Q**2)}",
+                 "kappa = (rp - rm)/(2*(rp**2 + a**2))")
+    the_claim, prob = problem(text)
+    result = ROUTE.symbolic(prob)
+    assert symbolic_verdict(result.values["kappa"], the_claim.rhs, the_claim.parameters,
+                            time_budget=3.0).verdict == "proved"

@@ -19,6 +19,7 @@ import sympy
 
 from crosscheck import probing
 from crosscheck.errors import CannotCompute
+from crosscheck import fieldroots as er
 
 MAX_ORDER = 4  # highest Taylor order looked at (an extremal horizon has order 2)
 SIMPLIFY_OPS = 80  # sympy simplify only below this many operations (it can hang)
@@ -69,7 +70,9 @@ class Horizon:
 
     def reduce(self, expr: sympy.Expr) -> sympy.Expr:
         """expr (a function of RH) with numerator and denominator reduced modulo `modulus`
-        when that makes them smaller; unchanged if it is not rational in RH."""
+        when that makes them smaller; unchanged if it is not rational in RH.  Tidied by
+        simplify, or only factored when the modulus is quadratic (the square root of a b is
+        then found in the field of r_h, `crosscheck.fieldroots`, and simplify is slow)."""
         expr = sympy.together(expr)
         if self.modulus is None or sympy.count_ops(expr) > FACTOR_OPS:
             return expr
@@ -81,6 +84,8 @@ class Horizon:
                 return expr
             reduced = poly.rem(self.modulus).as_expr()
             parts.append(reduced if sympy.count_ops(reduced) < sympy.count_ops(part) else part)
+        if self.modulus.degree() == 2:
+            return sympy.factor(sympy.cancel(parts[0] / parts[1]))
         return tidy(parts[0] / parts[1])
 
     def is_zero(self, expr: sympy.Expr) -> bool:
@@ -89,18 +94,7 @@ class Horizon:
 
 def horizon(F: sympy.Expr, r: sympy.Symbol, value: sympy.Expr, side: int, points) -> Horizon:
     """The Horizon of F at the closed form `value` (modulus from factoring F's numerator)."""
-    numerator = sympy.fraction(sympy.cancel(sympy.together(F)))[0]
-    modulus = None
-    try:
-        if numerator.is_polynomial(r) and sympy.count_ops(numerator) <= FACTOR_OPS:
-            factors = sympy.factor_list(sympy.Poly(numerator, r))[1]
-            for factor, _ in sorted(factors, key=lambda pair: pair[0].degree()):
-                if factor.degree() >= 1 and probing.is_zero(factor.as_expr().subs(r, value), points[:1]):
-                    modulus = sympy.Poly(factor.as_expr().subs(r, RH), RH)
-                    break
-    except (sympy.PolynomialError, NotImplementedError, CannotCompute):
-        modulus = None
-    return Horizon(r, value, side, tuple(points), modulus)
+    return Horizon(r, value, side, tuple(points), er.defining_factor(F, r, value, points, RH))
 
 
 def leading(f: sympy.Expr, h: Horizon) -> Leading:

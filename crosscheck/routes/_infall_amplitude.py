@@ -7,7 +7,10 @@ spacetime).  The integration variable is y = -ln(r/r_h - 1): near the horizon
 u grows like y/kappa while dtau/dy ~ e^-y, so the integrand decays exponentially;
 the coupling is switched on smoothly (C-infinity step in y), so the trapezoidal
 rule on a uniform y grid converges faster than any power.  tau(y) and u(y) are
-cumulative Simpson integrals of dtau/dy and du/dy on the same grid.
+cumulative Simpson integrals of dtau/dy and du/dy on the same grid, done once
+per parameter point (`fall`); the quadrature nodes of both phase steps the route
+compares are read off it, and the phases for all (gap, nu) pairs are computed
+once (`probability_tables`).
 
 |A|^2 carries the Planck factor nu/(exp(nu/T) - 1) in nu for w >> kappa; T is
 fitted from the nu-dependence at several gaps w and extrapolated in 1/w
@@ -28,14 +31,13 @@ from crosscheck.trajectories import infall_rates_arrays
 
 FINE = 0.0005  # step in y of the auxiliary grid on which tau(y), u(y) are integrated
 DECAY = 32.0  # the grid ends where e^-y is ~1e-14: the integrand has decayed
-PHASE_STEP = 0.2  # radians of the fastest phase per node
 
 
 @dataclass(frozen=True)
 class Geodesic:
     """tau, u and the quadrature weight window * dtau/dxi * step on nodes uniform in
     xi = w_max tau + y (a smooth monotone variable: the fastest phase advances about
-    PHASE_STEP per node both far out, where w tau dominates, and near the horizon,
+    the phase step per node both far out, where w tau dominates, and near the horizon,
     where u ~ y/kappa does)."""
 
     y: numpy.ndarray
@@ -61,7 +63,20 @@ def _cumulative_simpson(values: numpy.ndarray, h: float) -> numpy.ndarray:
     return out
 
 
-def geodesic(F: Callable, G: Callable, r_h: float, top: float, width: float, phase_step: float = PHASE_STEP) -> Geodesic:
+@dataclass(frozen=True)
+class Fall:
+    """The fall integrated once on the fine y grid and splined in xi = top tau + y; the nodes
+    of every phase step are read off these splines (`nodes`), so the two steps the route
+    compares share the integration."""
+
+    xi: tuple[float, float]
+    splines: CubicSpline  # (tau, u, y) as functions of xi
+    centre: float
+    width: float
+    top: float
+
+
+def fall(F: Callable, G: Callable, r_h: float, top: float, width: float) -> Fall:
     """The fall from rest at infinity, with the coupling switched on by an error-function
     window in proper time, centred where r = 4 r_h, of width `width`: its spectral
     leakage at gap w is ~ exp(-(w width)^2/4), negligible for w width >= 10."""
@@ -75,20 +90,57 @@ def geodesic(F: Callable, G: Callable, r_h: float, top: float, width: float, pha
             break
         start -= 1.0
     xi = top * tau + y
-    nodes = numpy.arange(xi[0], xi[-1], phase_step)
-    spline_tau, spline_u = CubicSpline(xi, tau), CubicSpline(xi, u)
-    y_nodes = CubicSpline(xi, y)(nodes)
-    dtau_n, du_n = radial_rates(F, G, r_h, y_nodes)
-    window = 0.5 * (1 + erf((spline_tau(nodes) - centre) / width))
-    dtau_dxi = dtau_n / (top * dtau_n + 1)
-    return Geodesic(y_nodes, spline_tau(nodes), spline_u(nodes), window * dtau_dxi * phase_step)
+    return Fall((float(xi[0]), float(xi[-1])), CubicSpline(xi, numpy.stack([tau, u, y], axis=1)), float(centre),
+                width, top)
 
 
-def probabilities(path: Geodesic, gap: float, nus: numpy.ndarray) -> numpy.ndarray:
-    """|A(gap, nu)|^2 for each nu (trapezoid sums; the integrand vanishes at both ends)."""
-    phase = numpy.exp(1j * gap * path.tau)[None, :] * numpy.exp(1j * numpy.outer(nus, path.u))
-    amplitudes = phase @ path.weight
-    return numpy.abs(amplitudes) ** 2
+def nodes(path: Fall, F: Callable, G: Callable, r_h: float, phase_step: float) -> Geodesic:
+    """Nodes uniform in xi with spacing `phase_step` and their quadrature weights."""
+    xi = numpy.arange(path.xi[0], path.xi[1], phase_step)
+    tau, u, y = path.splines(xi).T
+    dtau_n, _ = radial_rates(F, G, r_h, y)
+    window = 0.5 * (1 + erf((tau - path.centre) / path.width))
+    dtau_dxi = dtau_n / (path.top * dtau_n + 1)
+    return Geodesic(y, tau, u, window * dtau_dxi * phase_step)
+
+
+def _every(count: int, factor: int) -> slice:
+    """Every `factor`-th of `count` nodes: those of phase step factor * step (arange places
+    them at the same xi)."""
+    return slice(0, factor * (-(-count // factor)) - factor + 1, factor)
+
+
+def _phases(frequencies: numpy.ndarray, times: numpy.ndarray) -> numpy.ndarray:
+    """exp(i f t), one row per frequency.  Equally spaced frequencies (the nu grid) and
+    doublings (the gaps) are built by products of rows instead of new exponentials (a few
+    times faster; the rounding is that of the phases themselves, ~1e-16 of f t)."""
+    rows = numpy.empty((len(frequencies), len(times)), dtype=complex)
+    rows[0] = numpy.exp(1j * frequencies[0] * times)
+    ratios = frequencies[1:] / frequencies[:-1]
+    differences = numpy.diff(frequencies)
+    if len(frequencies) > 1 and numpy.allclose(ratios, 2.0, rtol=1e-14, atol=0):
+        for k in range(1, len(frequencies)):
+            rows[k] = rows[k - 1] * rows[k - 1]
+    elif len(frequencies) > 2 and numpy.allclose(differences, differences[0], rtol=1e-12, atol=0):
+        step = numpy.exp(1j * differences.mean() * times)
+        for k in range(1, len(frequencies)):
+            rows[k] = rows[k - 1] * step
+    else:
+        rows[1:] = numpy.exp(1j * numpy.outer(frequencies[1:], times))
+    return rows
+
+
+def probability_tables(path: Geodesic, gaps: numpy.ndarray, nus: numpy.ndarray,
+                       factor: int) -> tuple[numpy.ndarray, numpy.ndarray]:
+    """|A(gap, nu)|^2 (one row per gap) on every `factor`-th node (weights times `factor`: the
+    trapezoid sum at the coarser phase step) and on all nodes.  The phases exp(i nu u) and
+    exp(i gap tau) are computed once for all pairs, and each set of trapezoid sums (the
+    integrand vanishes at both ends) is one matrix product."""
+    by_nu = _phases(nus, path.u)
+    by_gap = _phases(gaps, path.tau) * path.weight[None, :]
+    keep = _every(len(path.u), factor)
+    coarse = (by_gap[:, keep] * factor) @ by_nu[:, keep].T
+    return numpy.abs(coarse) ** 2, numpy.abs(by_gap @ by_nu.T) ** 2
 
 
 def fit_temperature(nus: numpy.ndarray, p: numpy.ndarray, guess: float) -> tuple[float, float]:

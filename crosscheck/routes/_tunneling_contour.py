@@ -58,9 +58,12 @@ def circle(FG: Callable, r_h: mpmath.mpf, radius: mpmath.mpf, nodes: int, side: 
         roots.append(root)
         previous_root = root
 
+    ratios = [z / w for z, w in zip(zs, roots)]  # z/sqrt(P), shared by all the sums below
+    seconds = [z * q for z, q in zip(zs, ratios)]
+
     def moment(power: int, step: int) -> mpmath.mpc:
         # (1/2 pi i) sum dz/sqrt(P) z^power with dz = i z dtheta: (1/N) sum z^(power + 1)/sqrt(P)
-        terms = [zs[j] ** (power + 1) / roots[j] for j in range(0, nodes, step)]
+        terms = (ratios if power == 0 else seconds)[::step]
         return mpmath.fsum(terms) / len(terms)
 
     history, step = [], nodes
@@ -68,7 +71,7 @@ def circle(FG: Callable, r_h: mpmath.mpf, radius: mpmath.mpf, nodes: int, side: 
         if nodes // step >= 4:
             history.append((nodes // step, float(mpmath.re(moment(0, step)))))
         step //= 2
-    rounding = mpmath.eps * max(abs(z / w) for z, w in zip(zs, roots)) * 10
+    rounding = mpmath.eps * max(abs(q) for q in ratios) * 10
     return Circle(radius, nodes, orders, moment(0, 1), moment(1, 1), moment(0, 2), rounding, history)
 
 

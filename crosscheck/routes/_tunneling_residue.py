@@ -13,7 +13,7 @@ temperature.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import sympy
@@ -44,9 +44,12 @@ def tidy(expr: sympy.Expr) -> sympy.Expr:
     return sympy.simplify(expr) if sympy.count_ops(expr) <= SIMPLIFY_OPS and not nested_roots(expr) else expr
 
 
-def taylor(f: sympy.Expr, r: sympy.Symbol, r_h: sympy.Expr, points: Sequence[tp.Point]) -> tuple[int, sympy.Expr, sympy.Expr]:
+def taylor(f: sympy.Expr, r: sympy.Symbol, r_h: sympy.Expr, points: Sequence[tp.Point],
+           clean: Callable[[sympy.Expr], sympy.Expr] | None = None) -> tuple[int, sympy.Expr, sympy.Expr]:
     """(k, c_k, c_(k+1)): f(r_h + x) = c_k x^k + c_(k+1) x^(k+1) + ..., from derivatives at r_h
-    (written with the symbol RH) with zero tests at the probe points (RH = r_h there)."""
+    (written with the symbol RH) with zero tests at the probe points (RH = r_h there);
+    the coefficients go through `clean` (default `tidy`)."""
+    clean = clean or tidy
     derivatives = [f]
     for order in range(MAX_ORDER + 1):
         if order:
@@ -54,7 +57,7 @@ def taylor(f: sympy.Expr, r: sympy.Symbol, r_h: sympy.Expr, points: Sequence[tp.
         c = derivatives[order].subs(r, RH) / sympy.factorial(order)
         if not probing.is_zero(c.subs(RH, r_h), points):
             following = sympy.diff(derivatives[order], r).subs(r, RH) / sympy.factorial(order + 1)
-            return order, tidy(c), tidy(following)
+            return order, clean(c), clean(following)
     raise CannotCompute(f"{f} vanishes to order > {MAX_ORDER} at r_h = {r_h}")
 
 
@@ -70,10 +73,11 @@ def orders_allowed(k: int, m: int) -> None:
             "residue are not defined here")
 
 
-def product_series(f: tuple[int, sympy.Expr, sympy.Expr], g: tuple[int, sympy.Expr, sympy.Expr]) -> tuple[int, sympy.Expr, sympy.Expr]:
+def product_series(f: tuple[int, sympy.Expr, sympy.Expr], g: tuple[int, sympy.Expr, sympy.Expr],
+                   clean: Callable[[sympy.Expr], sympy.Expr] | None = None) -> tuple[int, sympy.Expr, sympy.Expr]:
     """Leading two Taylor coefficients of F G from those of F and G (Cauchy product)."""
     (k, f0, f1), (m, g0, g1) = f, g
-    return k + m, tidy(f0 * g0), f0 * g1 + f1 * g0
+    return k + m, (clean or tidy)(f0 * g0), f0 * g1 + f1 * g0
 
 
 @dataclass(frozen=True)

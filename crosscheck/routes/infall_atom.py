@@ -24,7 +24,7 @@ import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
-from crosscheck.routes._infall_amplitude import fit_temperature, geodesic, probabilities, radial_rates
+from crosscheck.routes._infall_amplitude import fall, fit_temperature, nodes, probability_tables, radial_rates
 from crosscheck.routes._infall_arrays import array_function
 from crosscheck.routes.base import NumericResult, Problem, SymbolicResult, claim_kind
 from crosscheck.spacetimes.horizon import horizon_radius_numeric
@@ -67,7 +67,7 @@ class InfallAtomRoute:
         r_h = float(horizon_radius_numeric(spacetime, point, 20).value)
         constants = {s: float(v) for s, v in point.items()}
         F, G = (array_function(e, static.r, constants) for e in (static.F, static.G))
-        coarse, fine = (_temperature(F, G, r_h, step) for step in (0.2, 0.1))
+        coarse, fine = _temperatures(F, G, r_h)
         N = normalization_factor_numeric(spacetime, point, 20)
         error = max(fine["error"], abs(fine["T"] - coarse["T"])) + 1e-12 * fine["T"]
         T = Measured(mpmath.mpf(fine["T"]) * N.value, mpmath.mpf(error) * N.value + mpmath.mpf(fine["T"]) * N.error)
@@ -84,17 +84,24 @@ class InfallAtomRoute:
         return NumericResult(values=values, functions=functions, evidence=evidence, provenance=provenance)
 
 
-def _temperature(F, G, r_h: float, phase_step: float) -> dict[str, object]:
-    """Fitted T at each gap and its extrapolation to 1/w -> 0 (cubic through the four
-    largest gaps; the quadratic through the three largest gives the error)."""
+def _temperatures(F, G, r_h: float) -> tuple[dict[str, object], dict[str, object]]:
+    """`_temperature` at the node spacings 0.2 and 0.1 rad: the fall is integrated once, and
+    the 0.2 rad nodes are every other 0.1 rad node (the same xi), so the phases are shared."""
     scale = _redshift_rate(F, G, r_h)
     gaps = GAPS * scale
-    path = geodesic(F, G, r_h, float(gaps.max()), float(10 / gaps.min()), phase_step)
+    path = nodes(fall(F, G, r_h, float(gaps.max()), float(10 / gaps.min())), F, G, r_h, 0.1)
     kappa_u = float((path.y[-1] - path.y[-2]) / (path.u[-1] - path.u[-2]))  # du/dy -> 1/kappa_t
     nus = NUS * kappa_u
+    coarse, fine = probability_tables(path, gaps, nus, 2)
+    return _temperature(coarse, nus, kappa_u), _temperature(fine, nus, kappa_u)
+
+
+def _temperature(table: numpy.ndarray, nus: numpy.ndarray, kappa_u: float) -> dict[str, object]:
+    """Fitted T at each gap (rows of `table`: |A|^2 against nu) and its extrapolation to
+    1/w -> 0 (cubic through the four largest gaps; the quadratic through the three largest
+    gives the error)."""
     fits = []
-    for gap in gaps:
-        p = probabilities(path, gap, nus)
+    for p in table:
         guess = float((nus[-1] - nus[-4]) / numpy.log(p[-4] / p[-1]))
         fits.append(fit_temperature(nus, p, guess))
     inverse = 1 / GAPS
