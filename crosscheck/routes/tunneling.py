@@ -11,12 +11,17 @@ claim T = kappa/pi can be diagnosed.  Symbolic side: the residue from the
 Taylor coefficients of F G (`_tunneling_residue`); numeric side: a contour
 integral in complex r (`_tunneling_contour`).  Rotating metrics: the frame
 co-rotating with the horizon, energy E - m Omega_H (`_tunneling_plane`).
+When r_h is a root of a quadratic (Kerr-Newman family) sqrt(h(0)) is found as
+a rational function of r_h (`crosscheck.fieldroots`, generic field
+algebra), so the closed form has no nested roots and is proved equal to a
+claim quickly.  The zeroth law is checked at the other angles at 15 digits on
+the numeric side (a consistency check, not the value).
 """
 
 from __future__ import annotations
 
 import functools
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from typing import ClassVar, Literal
 
 import mpmath
@@ -25,6 +30,7 @@ import sympy
 from crosscheck import probing
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
+from crosscheck import fieldroots as er
 from crosscheck.routes import _tunneling_contour as tc
 from crosscheck.routes import _tunneling_plane as tp
 from crosscheck.routes import _tunneling_residue as tr
@@ -36,6 +42,7 @@ from crosscheck.spacetimes.normalize import normalization_factor, normalization_
 
 OBSERVABLES = frozenset({"T", "kappa"})
 _GUARD = 15
+CHECK_DIGITS = 15  # digits of the zeroth-law check at the angles after the first
 NAIVE_LABEL = "naive tunneling rate exp(-2 Im W)"
 _RESOLVED = ("temperature from the emission/absorption ratio exp(-4 Im W_out) = exp(-E/T_t) (resolves the "
              "factor of two of the naive exp(-2 Im W_out)); T = N T_t, kappa = 2 pi T")
@@ -96,9 +103,12 @@ def _symbolic(problem: Problem) -> SymbolicResult:
     rep, r = points[0], rad.r
     r_h = horizon_radius(spacetime, rep)
     F, G, omega = rad.at_angle(tp.ANGLES[0])
-    f, g = tr.taylor(F, r, r_h, points), tr.taylor(G, r, r_h, points)
+    modulus = er.defining_factor(F, r, r_h, points, tr.RH)
+    quadratic = modulus is not None and modulus.degree() == 2
+    clean = _raw if quadratic else None  # the root is taken in the field of r_h: no simplify needed
+    f, g = tr.taylor(F, r, r_h, points, clean), tr.taylor(G, r, r_h, points, clean)
     tr.orders_allowed(f[0], g[0])
-    n, h0, h1 = tr.product_series(f, g)
+    n, h0, h1 = tr.product_series(f, g, clean)
     pole = tr.pole(n, h0, h1)
     N = normalization_factor(spacetime, rep)
     x = tr.X
@@ -118,7 +128,10 @@ def _symbolic(problem: Problem) -> SymbolicResult:
     if pole.order == 1:
         if pole.generic != 1 / sympy.sqrt(tr.H0):
             raise ValueError(f"unexpected residue {pole.generic} of 1/(x sqrt(h0 + h1 x))")
-        residue = 1 / tr.positive_sqrt(h0, r_h, points)
+        # r_h a root of a quadratic (Kerr-like): sqrt(h0) as a rational function of r_h, which proves
+        # equal to a claim quickly (nested roots do not)
+        root = er.positive_sqrt(h0, modulus, (f[1], g[1]), r_h, points) if quadratic else None
+        residue = 1 / (tr.tidy(root) if root is not None else tr.positive_sqrt(h0, r_h, points))
         im_w = sympy.pi * E * residue
         T_t = tr.tidy(E / (4 * im_w))
         naive = N * tr.tidy(E / (2 * im_w))
@@ -145,14 +158,20 @@ def _symbolic(problem: Problem) -> SymbolicResult:
                           provenance=tuple(provenance))
 
 
+def _raw(expr: sympy.Expr) -> sympy.Expr:
+    return expr
+
+
 def _zeroth_law(rad: tp.Radial, r_h: sympy.Expr, n: int, rep: tp.Point) -> sympy.Tuple:
     """h(0) = F^(n/2)(r_h) G^(n/2)(r_h)/((n/2)!)^2 at each angle (representative point);
     ValueError when they differ."""
     found, k = [], n // 2
-    for angle in tp.ANGLES:
-        F, G, _ = rad.at_angle(angle)
-        c = (sympy.diff(F, rad.r, k) * sympy.diff(G, rad.r, k)).subs(rad.r, r_h) / sympy.factorial(k) ** 2
-        found.append(probing.value(c, rep, 30).real)
+    where = {tr.RH: r_h.subs(rep)}
+    r = sympy.Dummy("r")  # no assumptions: sympy's sign queries on numeric coefficients are slow
+    for angle in tp.ANGLES:  # the representative point goes in first: derivatives of functions of r alone
+        F, G = (e.subs(rep).xreplace({rad.r: r}) for e in rad.at_angle(angle)[:2])
+        c = (sympy.diff(F, r, k) * sympy.diff(G, r, k)).subs(r, tr.RH) / sympy.factorial(k) ** 2
+        found.append(probing.value(c, where, 30).real)
     with mpmath.workdps(30):
         if max(abs(v - found[0]) for v in found) > mpmath.mpf(10) ** -20 * abs(found[0]):
             raise ValueError(f"h(0) depends on the angle ({[mpmath.nstr(v, 12) for v in found]}): not a Killing horizon")
@@ -168,7 +187,31 @@ def _prepared(F: sympy.Expr, G: sympy.Expr, omega: sympy.Expr, r: sympy.Symbol) 
     exprs = (F, G, omega)
     symbols = tuple(sorted(set().union(*(e.free_symbols for e in exprs)) - {r}, key=str))
     compiled = tuple(sympy.lambdify((r, *symbols), e, modules="mpmath", cse=True) for e in exprs)
-    return compiled, symbols, probing.polynomial_parts(F, r) + probing.polynomial_parts(G, r)
+    return compiled, symbols, probing.polynomial_parts(F, r) + probing.polynomial_parts(G, r), \
+        tuple(_coefficients(e, r, symbols) for e in (F, G))
+
+
+def _coefficients(expr: sympy.Expr, r: sympy.Symbol, symbols: tuple) -> Callable | None:
+    """For expr = N(r)/D(r) with polynomials N, D: parameters -> (coefficients of N, of D),
+    compiled; None otherwise.  Horner's rule on these is faster on the contour than the
+    expression tree (the coefficients are computed once per point); used at the zeroth-law
+    angles only, since the expanded form can round worse next to a close inner horizon."""
+    parts = sympy.fraction(sympy.cancel(sympy.together(expr)))
+    try:
+        if not all(part.is_polynomial(r) for part in parts):
+            return None
+        coefficients = [sympy.Poly(part, r).all_coeffs() for part in parts]
+    except sympy.PolynomialError:
+        return None
+    return sympy.lambdify(symbols, coefficients, modules="mpmath")
+
+
+def _function(compiled: Callable, coefficients: Callable | None, constants: tuple) -> Callable:
+    """z -> the metric function at complex z: Horner on N/D when it is rational in r."""
+    if coefficients is None:
+        return lambda z: compiled(z, *constants)
+    numerator, denominator = coefficients(*constants)
+    return lambda z: mpmath.polyval(numerator, z) / mpmath.polyval(denominator, z)
 
 
 def _numeric(problem: Problem, point: Mapping[sympy.Symbol, object], digits: int) -> NumericResult:
@@ -179,10 +222,11 @@ def _numeric(problem: Problem, point: Mapping[sympy.Symbol, object], digits: int
         point = {s: to_mp(v, dps) for s, v in point.items()}
         r_h = horizon_radius_numeric(spacetime, point, digits)
         N = normalization_factor_numeric(spacetime, point, digits)
-        found, scale = [], None
-        for angle in rad.angles:
-            found.append(_residue_at(rad, angle, point, r_h.value, digits, scale))
-            scale = found[0][0].main.radius * 4
+        found = [_residue_at(rad, rad.angles[0], point, r_h.value, digits, None)]
+        scale, check = found[0][0].main.radius * 4, min(digits, CHECK_DIGITS)
+        with mpmath.workdps(check + _GUARD):  # the other angles only test the zeroth law
+            for angle in rad.angles[1:]:
+                found.append(_residue_at(rad, angle, point, r_h.value, check, scale, check=True))
         result, omega_h = found[0]
         orders = result.main.orders
         evidence: dict[str, object] = {"orders": {"F": orders[0], "G": orders[1]}, "radius": float(result.main.radius),
@@ -194,8 +238,11 @@ def _numeric(problem: Problem, point: Mapping[sympy.Symbol, object], digits: int
         if len(found) > 1:
             evidence["zeroth_law_angle"] = [float(a) for a in rad.angles]
             evidence["zeroth_law_residue"] = [float(c.residue) for c, _ in found]
-            _check_angles([c for c, _ in found], digits)
+            _check_angles([c for c, _ in found], check)
         provenance = [f"inputs: {rad.inputs}; {tp.describe(spacetime)}", _method(result, dps)]
+        if len(found) > 1:
+            provenance.append("zeroth law: the residue agrees at the angles " + ", ".join(map(str, rad.angles))
+                              + f" (the others than the first computed to {check} digits: a consistency check)")
         if orders == (2, 2):
             # error: the T_t = sqrt(h0) d/(4 pi) of a simple zero split off by the root resolution d
             # (h0 = F2 G2 = 1/c_-2^2, c_-2 the double-pole coefficient of 1/sqrt(F G))
@@ -227,23 +274,28 @@ def _polys_found(rad: tp.Radial) -> bool:
     return bool(_prepared(*rad.at_angle(tp.ANGLES[0]), rad.r)[2])
 
 
-def _residue_at(rad: tp.Radial, angle, point: dict, r_h: mpmath.mpf, digits: int, scale) -> tuple[tc.Contour, mpmath.mpf]:
-    """The contour result and Omega_H at one angle (`scale` found at the first angle is reused)."""
-    (F, G, omega), symbols, polys = _prepared(*rad.at_angle(angle), rad.r)
+def _residue_at(rad: tp.Radial, angle, point: dict, r_h: mpmath.mpf, digits: int, scale,
+                check: bool = False) -> tuple[tc.Contour, mpmath.mpf]:
+    """The contour result and Omega_H at one angle (`scale` found at the first angle is reused).
+    `check`: a zeroth-law angle, where F and G may be evaluated by Horner's rule (faster; its
+    rounding near a close inner horizon is not in the error, which only the check sees)."""
+    (F_tree, G_tree, omega), symbols, polys, rational = _prepared(*rad.at_angle(angle), rad.r)
     missing = [s for s in symbols if s not in point]
     if missing:
         raise ValueError(f"no value for {', '.join(map(str, missing))}")
     constants = tuple(point[s] for s in symbols)
+    forms = rational if check else (None, None)  # the reported angle keeps the expression tree (its rounding)
+    F, G = (_function(tree, horner, constants) for tree, horner in zip((F_tree, G_tree), forms))
     if scale is None:
         scale = probing.nearest_root_distance(polys, point, r_h, abs(r_h) or mpmath.mpf(1))
     probe = scale / 10**6
-    outside = mpmath.re(F(r_h + probe, *constants))
+    outside = mpmath.re(F(r_h + probe))
     side = 1 if outside > 0 else -1
-    result = tc.contour(lambda z: (F(z, *constants), G(z, *constants)), r_h, scale, side, digits)
+    result = tc.contour(lambda z: (F(z), G(z)), r_h, scale, side, digits)
     if result.main.orders == (2, 2):  # degenerate, or an inner horizon closer than 20 digits resolve?
         closer = probing.nearest_root_distance(polys, point, r_h, scale, digits=mpmath.mp.dps)
         if closer < scale / 10:
-            result = tc.contour(lambda z: (F(z, *constants), G(z, *constants)), r_h, closer, side, digits)
+            result = tc.contour(lambda z: (F(z), G(z)), r_h, closer, side, digits)
     omega_h = mpmath.re(omega(r_h, *constants)) if rad.rotating else mpmath.mpf(0)
     return result, omega_h
 
