@@ -36,6 +36,16 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument("--html", metavar="FILE", help="write the HTML report")
     run.add_argument("--junit", metavar="FILE", help="write JUnit XML (a testsuite per claim file, a testcase per claim and route)")
     run.add_argument("--strict", action="store_true", help="also fail on weak and unchecked claims")
+    run.add_argument("--audit", action="store_true",
+                     help="also run the mutation audit (see `crosscheck mutate`); the HTML report gets its section")
+
+    mutate = commands.add_parser(
+        "mutate", help="mutation audit: corrupt each claim (x2, x pi, powers, signs, swaps, other horizon) "
+                       "and count how many the checks catch (fails below 99%%)")
+    mutate.add_argument("paths", nargs="*", default=["claims"], metavar="PATH")
+    _add_run_options(mutate)
+    mutate.add_argument("--json", metavar="FILE", help="write the audit (schema crosscheck-mutation/1)")
+    mutate.add_argument("--html", metavar="FILE", help="write the HTML report with the audit section")
 
     check = commands.add_parser("check", help="check one claim typed on the command line")
     check.add_argument("equation", metavar="CLAIM", help='for example "T = 1/(8*pi*M)"')
@@ -147,6 +157,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         "explain": commands.explain_command,
         "new": commands.new_command,
         "schema": commands.schema_command,
+        "mutate": commands.mutate_command,
     }
     try:
         with signals_interrupt():

@@ -132,6 +132,8 @@ def run_command(args, started: float) -> ExitCode:
         print(f"crosscheck: no claim files found in {' '.join(args.paths)}", file=sys.stderr)
         return ExitCode.INPUT_ERROR
     options = _options(args)
+    if getattr(args, "audit", False):
+        return _audited_run(args, loaded.claims, routes, options, outcomes, started)
     try:
         result = _execute(loaded.claims, routes, options, args, on_result=_print_outcome)
     except _StartError as exc:
@@ -148,10 +150,100 @@ def run_command(args, started: float) -> ExitCode:
     return exit_code(outcomes, args.strict)
 
 
+# -- the mutation audit ----------------------------------------------------------------------------
+def _execute_audit(claims, routes, options: RunOptions, args, on_claim=None):
+    """Run the audit (originals and mutants, no cache) on the executor the options ask for."""
+    from crosscheck.audit import run_audit, task_limit
+    from crosscheck.progress import Progress
+    from crosscheck.scheduler import make_executor
+    from crosscheck.workers import Limits
+
+    try:
+        executor = make_executor(_jobs(args), Limits(timeout=task_limit(options), memory_mb=args.memory), args.scheduler)
+    except (RuntimeError, OSError, ValueError) as exc:
+        raise _StartError(str(exc)) from exc
+    try:
+        return run_audit(claims, routes, options, executor, progress=Progress(len(claims), 0), on_claim=on_claim)
+    finally:
+        executor.shutdown(wait=True)
+
+
+def _audit_info(options: RunOptions, args, audit) -> dict:
+    info = _run_info(options, args)
+    info.update(complete=audit.complete, audit=audit.totals())
+    return info
+
+
+def _audited_run(args, claims, routes, options: RunOptions, outcomes: list, started: float) -> ExitCode:
+    """`run --audit`: the audit's unmutated outcomes are the run's results (computed once)."""
+    from crosscheck.audit_io import claim_line, summary
+
+    def show(claim_audit) -> None:
+        _print_outcome(claim_audit.original)
+        print("  audit: " + claim_line(claim_audit))
+
+    try:
+        audit = _execute_audit(claims, routes, options, args, on_claim=show)
+    except _StartError as exc:
+        print(f"crosscheck: cannot start the workers: {exc}", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    outcomes.extend(audit.outcomes)
+    seconds = time.perf_counter() - started
+    print(terminal.summary(outcomes, seconds))
+    print(summary(audit, seconds))
+    _write_reports(args, outcomes, _audit_info(options, args, audit), audit.complete, audit)
+    if not audit.complete:
+        return ExitCode.INTERRUPTED
+    code = exit_code(outcomes, args.strict)
+    return code if code != ExitCode.OK or audit.passed() else ExitCode.CONTRADICTED
+
+
+def mutate_command(args, started: float) -> ExitCode:
+    """`crosscheck mutate PATH`: how many corrupted claims the checks catch (target 99%)."""
+    from crosscheck.audit_io import claim_line, summary, survivor_lines, to_json
+
+    try:
+        all_routes, routes = _routes(args)
+    except KeyError as exc:
+        print(f"crosscheck: {exc.args[0]}", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    loaded = load_paths(args.paths, known_routes=all_routes)
+    for error in loaded.errors:
+        print(str(error), file=sys.stderr)
+    if loaded.errors or not loaded.claims:
+        if not loaded.errors:
+            print(f"crosscheck: no claim files found in {' '.join(args.paths)}", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    options = _options(args)
+
+    def show(claim_audit) -> None:
+        print(claim_line(claim_audit), flush=True)
+        for line in survivor_lines(claim_audit):
+            print(line)
+
+    try:
+        audit = _execute_audit(loaded.claims, routes, options, args, on_claim=show)
+    except _StartError as exc:
+        print(f"crosscheck: cannot start the workers: {exc}", file=sys.stderr)
+        return ExitCode.INPUT_ERROR
+    info = _audit_info(options, args, audit)
+    print(summary(audit, time.perf_counter() - started))
+    if args.json:
+        write_report(args.json, to_json(audit, info), audit.complete)
+    if args.html:
+        from crosscheck.report.html import to_html
+
+        write_report(args.html, to_html(audit.outcomes, info, audit=audit), audit.complete)
+        print(f"HTML report: {args.html}")
+    if not audit.complete:
+        return ExitCode.INTERRUPTED
+    return ExitCode.OK if audit.passed() else ExitCode.CONTRADICTED
+
+
 HTML_INCOMPLETE_MARK = "data-crosscheck-incomplete"
 
 
-def _write_reports(args, outcomes: Sequence[ClaimOutcome], info: dict, complete: bool) -> None:
+def _write_reports(args, outcomes: Sequence[ClaimOutcome], info: dict, complete: bool, audit=None) -> None:
     """JSON and HTML, each atomically; an incomplete report keeps a complete earlier one aside."""
     if args.json:
         from crosscheck.report.json_report import INCOMPLETE_MARK, to_json
@@ -160,7 +252,7 @@ def _write_reports(args, outcomes: Sequence[ClaimOutcome], info: dict, complete:
     if args.html:
         from crosscheck.report.html import to_html
 
-        page = to_html(outcomes, info)
+        page = to_html(outcomes, info, audit=audit)
         if not complete:
             page = _mark_incomplete_html(page, info)
         _note_kept(write_report(args.html, page, complete, HTML_INCOMPLETE_MARK))

@@ -118,11 +118,16 @@ def content_security_policy() -> str:
     )
 
 
-def to_html(outcomes: Sequence[ClaimOutcome], run: Mapping[str, object]) -> str:
-    """The whole report page."""
+def to_html(outcomes: Sequence[ClaimOutcome], run: Mapping[str, object], audit=None) -> str:
+    """The whole report page; with a mutation audit (`crosscheck.audit.Audit`) its section too."""
     template = _environment().get_template("report.html.j2")
     columns = route_names(outcomes)
     views = [claim_view(o, i + 1, run) for i, o in enumerate(outcomes)]
+    audit_section = None
+    if audit is not None:
+        from crosscheck.report.audit_view import audit_view
+
+        audit_section = audit_view(audit, {v.outcome.claim_id: v.anchor for v in views})
     matrix = [(v, [_cell(v, name) for name in columns]) for v in views]
     present = [s for s in CLAIM_WORDS if any(o.status == s for o in outcomes)]
     tally = ", ".join(f"{sum(1 for o in outcomes if o.status == s)} {s}" for s in present) or "none"
@@ -131,7 +136,7 @@ def to_html(outcomes: Sequence[ClaimOutcome], run: Mapping[str, object]) -> str:
         claim_words=CLAIM_WORDS, claim_marks=CLAIM_MARKS, claim_meanings=CLAIM_MEANINGS,
         route_marks=ROUTE_MARKS, route_words=ROUTE_WORDS, csp=Markup(content_security_policy()),
         print_script=Markup(PRINT_SCRIPT), plots_note=_plots_note(), command=str(run.get("command", "")),
-        versions=_listing(run.get("versions")), settings=_listing(run.get("options")),
+        versions=_listing(run.get("versions")), settings=_listing(run.get("options")), audit=audit_section,
     )
 
 
