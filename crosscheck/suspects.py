@@ -49,11 +49,27 @@ _ALTERNATIVES = {
 }
 
 
+#: Recent suspect tables, keyed by what they depend on (the claim's inputs, never its
+#: value): a mutation audit diagnoses many variants of one claim at the same points.
+_RECENT: dict[tuple, dict[str, list]] = {}
+_RECENT_SIZE = 64
+
+
 def suspicious_factors(
     claim: Claim, points: Sequence[Mapping[sympy.Symbol, sympy.Rational]], digits: int
 ) -> dict[str, list]:
     """name -> per-point factor by which the claim would differ if it used that choice
     (another Killing normalisation, or another horizon of the same metric)."""
+    key = (claim.spacetime, claim.lhs, bool(mentioned_observables(claim.rhs)), claim.observables, claim.units,
+           tuple(tuple(sorted((str(s), v) for s, v in p.items())) for p in points), digits)
+    if key not in _RECENT:
+        if len(_RECENT) >= _RECENT_SIZE:
+            _RECENT.pop(next(iter(_RECENT)))
+        _RECENT[key] = _suspicious_factors(claim, points, digits)
+    return dict(_RECENT[key])
+
+
+def _suspicious_factors(claim: Claim, points, digits: int) -> dict[str, list]:
     spacetime = claim.spacetime
     if spacetime is None:
         return {}
