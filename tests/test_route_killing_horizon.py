@@ -7,15 +7,12 @@ derivatives, the Gamma function) independently of the route's own method.
 
 from __future__ import annotations
 
-import time
-
 import mpmath
 import pytest
 import sympy
 from sympy import Rational, sqrt
 
 from crosscheck.errors import CannotCompute
-from crosscheck.routes import _killing_geometry
 from crosscheck.routes.base import Problem
 from crosscheck.routes.killing_horizon import KillingHorizonRoute
 from crosscheck.spacetimes.base import PHI, R_COORD, T_COORD, THETA, HorizonSpec, Metric, Normalization, Spacetime
@@ -333,15 +330,6 @@ def test_kerr_symbolic_values():
         assert_close(at(res.values["A"], pt), at(4 * sympy.pi * (rp**2 + a**2), pt))
 
 
-def test_kerr_newman_symbolic_is_fast():
-    """The symbolic side must take well under 4 s on Kerr-Newman (CPU time, fresh caches)."""
-    _killing_geometry.geometry.cache_clear()
-    pb = problem(kerr_newman(), M + sqrt(M**2 - a**2 - Q**2), (M, a, Q), KN_RANGES, wanted=SCALARS | {"Phi"})
-    start = time.process_time()
-    ROUTE.symbolic(pb)
-    assert time.process_time() - start < 4.0
-
-
 def test_zeroth_law_violation_is_reported():
     """A made-up stationary metric whose frame velocity on the horizon depends on theta: the Killing norm
     (lapse) vanishes at r_h, but no single Omega_H makes chi null there, so kappa cannot be constant."""
@@ -442,9 +430,7 @@ def test_root_selected_reissner_nordstrom_horizons():
     pt = {M: 3, Q: Rational(1, 2)}
     for which, root in (("largest", rp), ("smallest", rm)):
         pb = problem(metric, HorizonSpec(root=which), (M, Q), {M: (2, 20), Q: (0, 1)}, wanted={"kappa"})
-        start = time.process_time()
         res = ROUTE.symbolic(pb)
-        assert time.process_time() - start < 3.0
         assert_close(at(res.values["kappa"], pt), at((rp - rm) / (2 * root**2), pt))
         num = ROUTE.numeric(pb, mp_point(pt), 30)
         assert_honest(num.values["kappa"], at((rp - rm) / (2 * root**2), pt, 60))

@@ -142,6 +142,13 @@ def numeric_function(expr: sympy.Expr, args: Sequence[sympy.Symbol]) -> Callable
     Common subexpressions are shared (cse): the rotating fields are thousands of
     operations with much repetition, and cse makes them several times faster.
     """
+    return _compiled(as_sympy(expr), tuple(args))
+
+
+@functools.lru_cache(maxsize=256)
+def _compiled(expr: sympy.Expr, args: tuple[sympy.Symbol, ...]) -> Callable[..., object]:
+    """numeric_function, compiled once per (expression, arguments): every numeric point and
+    every zero test of the same expression reuses it."""
     return sympy.lambdify(list(args), expr, modules="mpmath", cse=sympy.count_ops(expr) > 200)
 
 

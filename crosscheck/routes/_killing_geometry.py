@@ -22,6 +22,7 @@ from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.numerics import richardson_limit
 from crosscheck.routes import _killing_algebra as ka
+from crosscheck.routes import _killing_quadrature as kq
 from crosscheck.spacetimes.base import Metric, angle_symbols
 from crosscheck.spacetimes.evaluation import as_sympy
 from crosscheck.spacetimes.forms import unit_sphere
@@ -202,7 +203,7 @@ def _integrate_separable(integrand: sympy.Expr, ranges) -> sympy.Expr:
 
 
 def area_numeric(geo: Geometry, point, r_h: Measured, digits: int) -> tuple[Measured, str]:
-    """Area by mpmath.quad (error=True) at two precisions, the r_h error propagated
+    """Area by quadrature (`_quad`: two degrees and two precisions compared), the r_h error propagated
     (the area is recomputed at r_h + error)."""
     ranges = angle_ranges(geo.metric)
     args = args_of(geo, point)
@@ -220,7 +221,7 @@ def _round_area(geo: Geometry, args, digits: int):
     static = geo.metric.static
     n = static.dim - 2
     radius = ka.numeric_function(static.R, [static.r, *geo.params])
-    pieces = [_quad(lambda x, k=k: mpmath.sin(x) ** k, [[0, mpmath.pi]], digits) for k in range(1, n)]
+    pieces = [_sine_power_integral(k, digits, mpmath.mp.prec) for k in range(1, n)]
     angular = 2 * mpmath.pi * mpmath.fprod(p.value for p in pieces)
     relative = mpmath.fsum(p.error / p.value for p in pieces)
 
@@ -228,7 +229,14 @@ def _round_area(geo: Geometry, args, digits: int):
         value = angular * mpmath.re(radius(rv, *args)) ** n
         return Measured(value, abs(value) * relative)
 
-    return area_at, f"area: R(r_h)^{n} times 2 pi and mpmath.quad of sin^k over (0, pi), k = 1..{n - 1}"
+    return area_at, f"area: R(r_h)^{n} times 2 pi and quadratures of sin^k over (0, pi), k = 1..{n - 1}"
+
+
+@functools.lru_cache(maxsize=64)
+def _sine_power_integral(k: int, digits: int, prec: int) -> Measured:
+    """quad(sin^k, 0, pi), the same at every parameter point: computed once per precision."""
+    with mpmath.workprec(prec):
+        return _quad(lambda x: mpmath.sin(x) ** k, [[0, mpmath.pi]], digits)
 
 
 def _induced_area(geo: Geometry, ranges, args, digits: int):
@@ -247,18 +255,13 @@ def _induced_area(geo: Geometry, ranges, args, digits: int):
         q = _quad(lambda *x: mpmath.sqrt(abs(fn(rv, *x, *args))), limits, digits)
         return Measured(length * q.value, length * q.error)
 
-    return area_at, "area: mpmath.quad (error=True) of sqrt(det) of the induced metric at t = const, r = r_h"
+    return area_at, "area: Gauss-Legendre quadrature (degrees and precisions compared) of sqrt(det) of the induced metric at t = const, r = r_h"
 
 
 def _quad(f, limits, digits: int) -> Measured:
-    """mpmath.quad with error=True at two precisions; the error covers both estimates and their difference."""
-    results = []
-    for extra in (10, 25):
-        with mpmath.workdps(digits + extra):
-            value, error = mpmath.quad(f, *limits, error=True)
-            results.append((value, error))
-    (v1, e1), (v2, e2) = results
-    return Measured(v2, max(e1, e2, abs(v2 - v1)))
+    """Gauss-Legendre, degree doubled until converged and repeated with 15 more digits (the
+    error covers both differences); tanh-sinh at two precisions if it does not converge."""
+    return kq.quad(f, limits, digits)
 
 
 # ---------------------------------------------------------------------------

@@ -12,9 +12,11 @@ the limit is taken at several polar angles: the zeroth law says they agree.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field
 
 import mpmath
+import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
@@ -101,15 +103,62 @@ def _delta0(geo, point, r_h: Measured, digits) -> mpmath.mpf:
     """DELTA0 r_h, but at most a quarter of the distance to another zero of the norm."""
     scale = abs(r_h.value) if r_h.value != 0 else mpmath.mpf(1)
     delta0 = DELTA0 * scale
-    try:
-        roots = positive_roots_numeric(geo.norm_eq, geo.r, point, digits)
-    except (ValueError, CannotCompute, ZeroDivisionError):
-        roots = []
+    roots = _other_zeros(geo, point, digits)
+    if roots is None:
+        try:
+            roots = positive_roots_numeric(_norm_numerator(geo.norm_eq, geo.r), geo.r, point, digits)
+        except (ValueError, CannotCompute, ZeroDivisionError):
+            roots = []
     for root in roots:
         gap = abs(root.value - r_h.value)
         if gap > mpmath.mpf(10) ** (-(digits // 3)) * scale + 10 * (root.error + r_h.error):
             delta0 = min(delta0, gap / 4)
     return delta0
+
+
+def _other_zeros(geo, point, digits) -> list[Measured] | None:
+    """Positive zeros of the norm's square-free polynomial numerator at this point (coefficients
+    compiled once per metric, mpmath.polyroots with its error estimate); None when the numerator
+    is not a polynomial in r or polyroots does not converge (the caller then uses the general
+    root finder)."""
+    coefficients = _norm_coefficients(geo.norm_eq, geo.r, geo.params)
+    if coefficients is None:
+        return None
+    with mpmath.workdps(digits + 15):
+        values = [mpmath.mpmathify(c) for c in coefficients(*kg.args_of(geo, point))]
+        while values and values[0] == 0:  # the leading coefficient may vanish at this point
+            values.pop(0)
+        if len(values) < 2:
+            return []
+        try:
+            roots, error = mpmath.polyroots(values, maxsteps=100, extraprec=60, error=True)
+        except (mpmath.libmp.NoConvergence, ZeroDivisionError):
+            return None
+        tiny = mpmath.mpf(10) ** (-(digits + 5))
+        return [Measured(mpmath.re(z), error * max(abs(z), 1)) for z in roots
+                if abs(mpmath.im(z)) <= tiny * max(abs(z), 1) and mpmath.re(z) > 0]
+
+
+@functools.lru_cache(maxsize=32)
+def _norm_coefficients(norm: sympy.Expr, r: sympy.Symbol, params: tuple) -> object | None:
+    """Compiled coefficients (highest power first) of the square-free part of the norm's numerator
+    as a polynomial in r, or None if it is not one."""
+    numerator = _norm_numerator(norm, r)
+    try:
+        poly = sympy.Poly(numerator, r)
+    except sympy.PolynomialError:
+        return None
+    if poly.degree() < 1 or any(c.has(r) for c in poly.all_coeffs()):
+        return None
+    square_free = sympy.quo(poly, sympy.gcd(poly, poly.diff(r)))
+    return ka.numeric_function(sympy.Tuple(*square_free.all_coeffs()), list(params))
+
+
+@functools.lru_cache(maxsize=32)
+def _norm_numerator(norm: sympy.Expr, r: sympy.Symbol) -> sympy.Expr:
+    """The Killing norm's numerator, expanded, once per metric: it has the norm's zeros (where the
+    denominator is finite), and the root finder then skips the symbolic cancel at every point."""
+    return sympy.expand(sympy.fraction(sympy.cancel(sympy.together(norm)))[0])
 
 
 def _timelike_side(geo, point, r_h, delta0, digits) -> int:

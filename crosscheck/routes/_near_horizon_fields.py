@@ -9,6 +9,7 @@ r_h + side * delta_k, Richardson extrapolation.
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 
@@ -72,7 +73,9 @@ class Observers:
     omega: sympy.Expr | None = None
 
 
+@functools.lru_cache(maxsize=16)
 def observers(metric: Metric) -> Observers:
+    """The fields of `metric` (cached: both sides and every numeric point use them)."""
     g, coords = sympy.Matrix(metric.g), metric.coords
     g_inv, n = inverse_metric(g), len(coords)
     if metric.axial is None:
@@ -100,8 +103,14 @@ def at_angles(expr: sympy.Expr, metric: Metric, value: sympy.Expr = sympy.pi / 2
 
 
 def compile_expr(expr: sympy.Expr, variables: Sequence[sympy.Symbol]) -> Callable:
-    """mpmath function of `variables` (rationals become mpf at call time)."""
-    return sympy.lambdify(tuple(variables), expr, modules="mpmath")
+    """mpmath function of `variables` (rationals become mpf at call time); compiled once per
+    expression (every numeric point reuses it), common subexpressions shared when large."""
+    return _compiled(as_sympy(expr), tuple(variables))
+
+
+@functools.lru_cache(maxsize=256)
+def _compiled(expr: sympy.Expr, variables: tuple[sympy.Symbol, ...]) -> Callable:
+    return sympy.lambdify(variables, expr, modules="mpmath", cse=sympy.count_ops(expr) > 200)
 
 
 def _call(function: Callable, arguments: Sequence[object], dps: int) -> mpmath.mpc:
@@ -218,58 +227,41 @@ def limit_at_infinity(expr: sympy.Expr, r: sympy.Symbol, points: Sequence[Point]
     return Place(y, ZERO, 1, points).limit(sympy.cancel(sympy.together(expr.subs(r, 1 / y))))
 
 
-def tidy(expr: sympy.Expr) -> sympy.Expr:
-    """simplify small expressions, cancel root-free ones; large ones with roots are left
-    alone (cancel can take minutes on Cardano's formula)."""
-    expr = as_sympy(expr)
-    if sympy.count_ops(expr) <= SIMPLIFY_OPS:
-        return sympy.simplify(expr)
-    return expr if any(not p.exp.is_Integer for p in expr.atoms(sympy.Pow)) else sympy.cancel(expr)
+# --------------------------------------------------------------------------- points and sides
 
 
-def positive_sqrt(square: sympy.Expr, points: Sequence[Point]) -> sympy.Expr:
-    """sqrt(square) >= 0, simplified: parts denested in Q(params)(sqrt(D)), or powdenest.
-    A candidate must have one sign at the test points and square back to `square`."""
-    if is_zero(square, points):
-        return ZERO
-    top, bottom = sympy.fraction(sympy.together(square))
-    parts = [_denest(sympy.expand(part), points) or sympy.sqrt(part) for part in (top, bottom)]
-    square = tidy(square)
-    candidates = [parts[0] / parts[1]]
-    if sympy.count_ops(square) <= SIMPLIFY_OPS:  # factor can hang on large radical expressions
-        candidates.append(sympy.powdenest(sympy.sqrt(sympy.factor(square)), force=True))
-    for candidate in candidates:
-        signs = {sign_at(candidate, p) for p in points}
-        if len(signs) == 1 and 0 not in signs:
-            candidate = tidy(candidate * signs.pop())
-            if is_zero(candidate**2 - square, points):
-                return candidate
-    return sympy.sqrt(square)
+_ANGLES = (sympy.Rational(7, 10), sympy.Rational(11, 10))  # polar angles of the sample points
+_GENERIC = (sympy.Rational(13, 10), sympy.Rational(17, 10))  # parameters without a range
 
 
-def _rational_sqrt(expr: sympy.Expr, points: Sequence[Point]) -> sympy.Expr | None:
-    """A root-free s with s^2 = expr (either sign), or None."""
-    root = sympy.powdenest(sympy.sqrt(sympy.factor(expr)), force=True)
-    root = root.replace(lambda e: isinstance(e, sympy.Abs), lambda e: e.args[0])
-    if any(p.exp.is_Rational and not p.exp.is_Integer for p in root.atoms(sympy.Pow)):
-        return None
-    return root if is_zero(root**2 - expr, points) else None
+def sample_points(problem) -> list[dict[sympy.Symbol, sympy.Expr]]:
+    """Two exact points inside the parameter ranges (with angles) for zero and sign tests:
+    fractions 2/11..8/11 of each range, away from the ends where extremal cases sit, and
+    different for each parameter so that equal ranges do not give equal values."""
+    metric = problem.spacetime.metric
+    symbols = set(problem.parameters) | metric.g.free_symbols
+    for component in metric.potential or ():
+        symbols |= as_sympy(component).free_symbols
+    points = []
+    for k in range(2):
+        point = {angle: _ANGLES[k] for angle in metric.coords[2:]}
+        for i, symbol in enumerate(sorted(symbols - set(metric.coords), key=str)):
+            lo, hi = (sympy.Rational(v) for v in problem.ranges.get(symbol, (_GENERIC[k], _GENERIC[k])))
+            point[symbol] = lo + sympy.Rational(2 + (3 * i + 5 * k) % 7, 11) * (hi - lo)
+        points.append(point)
+    return points
 
 
-def _denest(square: sympy.Expr, points: Sequence[Point]) -> sympy.Expr | None:
-    """u + v sqrt(D) with (u + v sqrt(D))^2 = square = E + F sqrt(D), u and v root-free:
-    u^2 = (E +- sqrt(E^2 - F^2 D))/2 and v = F/(2u), when those roots are rational."""
-    roots = [p for p in square.atoms(sympy.Pow) if p.exp == sympy.Rational(1, 2)]
-    if len(roots) != 1 or square.has(sympy.I) or sympy.count_ops(square) > 1000 or not square.is_polynomial(roots[0]):
-        return None  # (factor can take minutes on large expressions)
-    root, D, y = roots[0], roots[0].base, sympy.Dummy("y")
-    F, E = ([ZERO] + sympy.Poly(square.xreplace({root: y}), y).rem(sympy.Poly(y**2 - D, y)).all_coeffs())[-2:]
-    discriminant = _rational_sqrt(sympy.factor(E**2 - F**2 * D), points)
-    for sign in (1, -1):
-        u = None if discriminant is None else _rational_sqrt(sympy.factor((E + sign * discriminant) / 2), points)
-        if u is not None and not is_zero(u, points):
-            return sympy.factor(u) + sympy.factor(F / (2 * u)) * root
-    return None
+def static_side(redshift2: Callable[[mpmath.mpf], object], r_h: mpmath.mpf) -> int:
+    """+1 if the static region (V^2 > 0) is at r > r_h (the outside also when both are),
+    -1 if at r < r_h (a cosmological horizon)."""
+    scale = abs(r_h) or mpmath.mpf(1)
+    for side in (1, -1):
+        value = mpmath.mpc(redshift2(r_h + side * scale / 1000))
+        if mpmath.isfinite(value) and value.real > 0 and abs(value.imag) <= 1e-20 * abs(value):
+            return side
+    raise ValueError(f"horizon: no static region (V^2 > 0) next to r_h = {mpmath.nstr(r_h, 10)}")
+
 
 
 # --------------------------------------------------------------------------- numeric limits
@@ -349,24 +341,6 @@ def local_functions(accel2: Callable, redshift2: Callable, kappa_t: Measured, dp
 # --------------------------------------------------------------------------- areas
 
 
-def area_by_quadrature(density: Callable, polar: int, r_h: mpmath.mpf, side: int, scale: mpmath.mpf, digits: int, steps: int) -> tuple[Limit, mpmath.mpf]:
-    """Area at r_h + side h by mpmath.quad of sqrt(det) over the polar angles (2 pi for the
-    azimuth), extrapolated to h = 0, and the propagated quadrature error."""
-    errors = [mpmath.mpf(0)]
-
-    def area(h: mpmath.mpf) -> mpmath.mpf:
-        integrand = lambda *a: mpmath.sqrt(abs(mpmath.re(density(r_h + side * h, *a))))  # noqa: E731
-        if not polar:
-            return 2 * mpmath.pi * integrand()
-        value, error = mpmath.quad(integrand, *([[0, mpmath.pi]] * polar), error=True)
-        errors.append(error)
-        return 2 * mpmath.pi * value
-
-    limit = horizon_limit(area, scale, digits, steps)
-    return limit, 2 * mpmath.pi * max(errors) * richardson_amplification(steps)
-
-
-
 def check_area(metric: Metric) -> None:
     """CannotCompute unless r = const, t = const is a sphere in the standard angles (the
     azimuth a symmetry; for static forms a given areal radius R)."""
@@ -405,8 +379,9 @@ def sphere_factor_numeric(n: int) -> Measured:
     return Measured(value, error + 10 * mpmath.eps * abs(value))
 
 
+@functools.lru_cache(maxsize=16)
 def angular_determinant(metric: Metric) -> sympy.Expr:
-    """det of the induced metric on r, t = const (the angular block)."""
+    """det of the induced metric on r, t = const (the angular block; cached per metric)."""
     return sympy.cancel(sympy.Matrix(metric.g)[2:, 2:].det(method="berkowitz"))
 
 

@@ -17,7 +17,10 @@ import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
+from crosscheck.routes import _near_horizon_area as na
+from crosscheck.routes import _near_horizon_closed as nc
 from crosscheck.routes import _near_horizon_fields as nh
+from crosscheck.routes._near_horizon_fields import sample_points, static_side
 from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult
 from crosscheck.spacetimes.evaluation import as_sympy
 from crosscheck.spacetimes.horizon import horizon_radius, horizon_radius_numeric
@@ -30,8 +33,6 @@ from crosscheck.spacetimes.normalize import (
 
 OBSERVABLES = frozenset({"kappa", "T", "a_loc", "T_loc", "A", "S", "Omega", "Phi", "r_h"})
 FUNCTIONS = frozenset({"a_loc", "T_loc"})
-_ANGLES = (sympy.Rational(7, 10), sympy.Rational(11, 10))  # polar angles of the sample points
-_GENERIC = (sympy.Rational(13, 10), sympy.Rational(17, 10))  # parameters without a range
 _OTHER_THETAS = (sympy.pi / 3, sympy.pi / 4)  # zeroth-law check
 
 
@@ -58,17 +59,6 @@ class NearHorizonRoute:
         return _Numeric(problem, point, digits).result()
 
 
-def static_side(redshift2: Callable[[mpmath.mpf], object], r_h: mpmath.mpf) -> int:
-    """+1 if the static region (V^2 > 0) is at r > r_h (the outside also when both are),
-    -1 if at r < r_h (a cosmological horizon)."""
-    scale = abs(r_h) or mpmath.mpf(1)
-    for side in (1, -1):
-        value = mpmath.mpc(redshift2(r_h + side * scale / 1000))
-        if mpmath.isfinite(value) and value.real > 0 and abs(value.imag) <= 1e-20 * abs(value):
-            return side
-    raise ValueError(f"horizon: no static region (V^2 > 0) next to r_h = {mpmath.nstr(r_h, 10)}")
-
-
 class _Side:
     """Shared by both sides: the observers' fields, the targets, assembling the values."""
 
@@ -89,9 +79,11 @@ class _Side:
         self.steps: list[Step] = []
         self.provenance: list[str] = []
 
-    def values(self, kappa_t: object, N: object) -> dict[str, object]:
-        kappa = self.times(N, kappa_t, "kappa = N kappa_t", "kappa")
-        values = {"kappa": kappa, "T": self.times(kappa, 1 / (2 * sympy.pi), "T = kappa/(2 pi)", "T"), "r_h": self.r_h}
+    def values(self, kappa_t: object | None, N: object) -> dict[str, object]:
+        values = {"r_h": self.r_h}
+        if kappa_t is not None:  # None: neither kappa nor T wanted (symbolic side)
+            values["kappa"] = kappa = self.times(N, kappa_t, "kappa = N kappa_t", "kappa")
+            values["T"] = self.times(kappa, 1 / (2 * sympy.pi), "T = kappa/(2 pi)", "T")
         if self.targets & {"A", "S"}:
             values["A"] = self.area()
             values["S"] = self.times(values["A"], sympy.Rational(1, 4), "S = A/4 (area law of general relativity, geometric units)", "S")
@@ -121,7 +113,7 @@ class _Symbolic(_Side):
         return expr
 
     def times(self, a: sympy.Expr, b: sympy.Expr, label: str, name: str) -> sympy.Expr:
-        return self.step(label, name, nh.tidy(a * b))
+        return self.step(label, name, nc.tidy(a * b))
 
     def result(self) -> SymbolicResult:
         r, self.r_h = self.r, horizon_radius(self.spacetime, self.rep)
@@ -134,7 +126,7 @@ class _Symbolic(_Side):
             vanishes = False
         if not vanishes:
             raise ValueError(f"horizon: the redshift V^2 = {v2} does not vanish at r_h = {self.r_h}")
-        kappa_t = self.kappa_t()
+        kappa_t = self.kappa_t() if self.targets & (FUNCTIONS | {"kappa", "T"}) else None
         N = self.step("normalisation of the Killing time, xi = N d/dt", "N", normalization_factor(self.spacetime, self.rep))
         values = self.values(kappa_t, N)
         functions = self.functions(kappa_t) if self.targets & FUNCTIONS else {}
@@ -151,7 +143,7 @@ class _Symbolic(_Side):
             self.step("static observer u^t = 1/sqrt(-g_tt); redshift V = sqrt(-g_tt)", "V", sympy.sqrt(fields.redshift2))
             self.step("a^mu = Gamma^mu_tt (u^t)^2, a_loc = sqrt(g_mu nu a^mu a^nu)", "a_loc", sympy.sqrt(sympy.factor(fields.accel2)))
         squared = self.at.limit(sympy.cancel(nh.at_angles(fields.kappa2, self.metric)))
-        kappa_t = nh.positive_sqrt(squared, self.points)
+        kappa_t = nc.positive_sqrt(squared, self.points)
         what = "alpha |grad alpha| (ZAMO, theta = pi/2)" if self.rotating else "V a_loc (static observer)"
         self.step(f"kappa_t = lim_(r -> r_h) {what}", "kappa_t", kappa_t)
         if not self.rotating:
@@ -170,29 +162,29 @@ class _Symbolic(_Side):
             return
         x, rho, power = sympy.Symbol("x", positive=True), sympy.Symbol("rho", positive=True), 1 - sympy.Rational(k_g, 2)
         if power > 0 and k_f / power == 2:  # else degenerate: no Rindler region
-            self.step("proper distance rho = integral dr/sqrt(G), x = |r - r_h|", "rho", nh.tidy(x**power / (power * sympy.sqrt(c_g))))
-            kappa_r = nh.positive_sqrt(c_f * power**2 * c_g, self.points)
-            same = "= kappa_t" if nh.is_zero(kappa_r**2 - squared, self.points) else "DIFFERS from kappa_t"
-            self.step(f"Rindler form -g_tt ~ kappa_R^2 rho^2, kappa_R {same}", "-g_tt", kappa_r**2 * rho**2)
+            self.step("proper distance rho = integral dr/sqrt(G), x = |r - r_h|", "rho", x**power / (power * sympy.sqrt(nc.tidy(c_g))))
+            kappa_r2 = nc.tidy(c_f * power**2 * c_g)  # (the square: its root is not needed for the comparison)
+            same = "= kappa_t" if nh.is_zero(kappa_r2 - squared, self.points) else "DIFFERS from kappa_t"
+            self.step(f"Rindler form -g_tt ~ kappa_R^2 rho^2, kappa_R {same}", "-g_tt", kappa_r2 * rho**2)
 
     def area(self) -> sympy.Expr:
         nh.check_area(self.metric)
         n = nh.round_sphere_power(self.metric)
         if n is not None:
             area_r = self.step("A(r) = R^n times the integrated unit-sphere element", "A(r)", self.metric.static.R**n * nh.sphere_factor(n))
-            return self.step("A = lim_(r -> r_h) A(r)", "A", nh.tidy(self.at.limit(area_r)))
-        density = nh.angular_density(nh.tidy(self.at.limit(nh.angular_determinant(self.metric))), self.metric)
+            return self.step("A = lim_(r -> r_h) A(r)", "A", nc.tidy(self.at.limit(area_r)))
+        density = nh.angular_density(nc.tidy(self.at.limit(nh.angular_determinant(self.metric))), self.metric)
         for angle in nh.polar_angles(self.metric):
             density = sympy.integrate(density, (angle, 0, sympy.pi))
         if density.has(sympy.Integral):
             raise CannotCompute("area: sympy could not integrate the induced horizon metric over the angles")
-        return self.step("A = integral of sqrt(det) of the angular block at r_h", "A", nh.tidy(2 * sympy.pi * density))
+        return self.step("A = integral of sqrt(det) of the angular block at r_h", "A", nc.tidy(2 * sympy.pi * density))
 
     def omega(self, N: sympy.Expr) -> sympy.Expr:
         if not self.rotating:
             return self.step("Omega = 0 (static metric)", "Omega", sympy.Integer(0))
         omega = self.at.limit(sympy.cancel(nh.at_angles(self.fields.omega, self.metric)))
-        return self.step("Omega = N lim_(r -> r_h) omega (ZAMO angular velocity)", "Omega", nh.tidy(N * omega))
+        return self.step("Omega = N lim_(r -> r_h) omega (ZAMO angular velocity)", "Omega", nc.tidy(N * omega))
 
     def phi(self, N: sympy.Expr) -> sympy.Expr:
         if self.potential is None:
@@ -204,7 +196,7 @@ class _Symbolic(_Side):
             r0 = self.spacetime.normalization.radius if kind == "radius" else geodesic_radius(self.spacetime, self.rep)
             reference = self.potential.subs(self.r, r0)
         where = "infinity" if kind == "as-written" else "the normalisation radius"
-        phi = nh.tidy(N * (reference - self.at.limit(self.potential)))
+        phi = nc.tidy(N * (reference - self.at.limit(self.potential)))
         return self.step(f"Phi = N [(A_t + omega A_phi) at {where} minus at r_h]", "Phi", phi)
 
     def functions(self, kappa_t: sympy.Expr) -> dict[str, sympy.Lambda]:
@@ -213,24 +205,6 @@ class _Symbolic(_Side):
                           kappa_t / (2 * sympy.pi * sympy.sqrt(sympy.factor(fields.redshift2))))
         functions = {"a_loc": sympy.Lambda(self.r, sympy.sqrt(sympy.factor(fields.accel2))), "T_loc": sympy.Lambda(self.r, t_loc)}
         return {k: v for k, v in functions.items() if k in self.targets}
-
-
-def sample_points(problem: Problem) -> list[dict[sympy.Symbol, sympy.Expr]]:
-    """Two exact points inside the parameter ranges (with angles) for zero and sign tests:
-    fractions 2/11..8/11 of each range, away from the ends where extremal cases sit, and
-    different for each parameter so that equal ranges do not give equal values."""
-    metric = problem.spacetime.metric
-    symbols = set(problem.parameters) | metric.g.free_symbols
-    for component in metric.potential or ():
-        symbols |= as_sympy(component).free_symbols
-    points = []
-    for k in range(2):
-        point = {angle: _ANGLES[k] for angle in metric.coords[2:]}
-        for i, symbol in enumerate(sorted(symbols - set(metric.coords), key=str)):
-            lo, hi = (sympy.Rational(v) for v in problem.ranges.get(symbol, (_GENERIC[k], _GENERIC[k])))
-            point[symbol] = lo + sympy.Rational(2 + (3 * i + 5 * k) % 7, 11) * (hi - lo)
-        points.append(point)
-    return points
 
 
 def _times(a: Measured, b: Measured) -> Measured:
@@ -311,8 +285,14 @@ class _Numeric(_Side):
             return _times(nh.sphere_factor_numeric(n), self.limit(self.metric.static.R**n))
         if len(polar) > 2:
             raise CannotCompute("area: over two polar angles in a non-round metric (quadrature too slow)")
-        density = self.radial(nh.angular_determinant(self.metric), keep_angles=True)
-        limit, propagated = nh.area_by_quadrature(density, len(polar), self.r_h.value, self.side, self.scale, self.digits, self.offsets)
+        det = nh.angular_determinant(self.metric)
+        density, r_h = self.radial(det, keep_angles=True), self.r_h.value
+        if na.regular_at(self.radial(sympy.denom(det), keep_angles=True), len(polar), r_h, self.side, self.scale, self.digits):
+            area = na.area_at_horizon(density, len(polar), self.r_h, self.digits)
+            if area is not None:
+                self.provenance.append("A: Gauss-Legendre quadrature of sqrt(det) of the angular block at r_h (regular there)")
+                return area
+        limit, propagated = na.area_by_quadrature(density, len(polar), r_h, self.side, self.scale, self.digits, self.offsets)
         self.provenance.append("A: quadrature of sqrt(det) of the angular block, extrapolated")
         return Measured(limit.value.value, limit.value.error + limit.shift_error(self.r_h.error) + propagated)
 
