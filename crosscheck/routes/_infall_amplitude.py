@@ -47,9 +47,12 @@ class Geodesic:
 
 
 def radial_rates(F: Callable, G: Callable, r_h: float, y: numpy.ndarray) -> tuple[numpy.ndarray, numpy.ndarray]:
-    """dtau/dy and du/dy along the fall (both > 0 as y grows toward the horizon)."""
+    """dtau/dy and du/dy along the fall (both > 0 as y grows toward the horizon).
+
+    F and G are functions of x = r/r_h - 1 = e^-y (`_infall_arrays.OffsetFunction`), so that
+    no digits are lost forming r - r_h near the horizon."""
     x = numpy.exp(-y)
-    dtau_dr, du_dr = infall_rates_arrays(F(r_h * (1 + x)), G(r_h * (1 + x)))
+    dtau_dr, du_dr = infall_rates_arrays(F(x), G(x))
     return -dtau_dr * r_h * x, -du_dr * r_h * x  # dr/dy = -r_h e^-y
 
 
@@ -130,17 +133,26 @@ def _phases(frequencies: numpy.ndarray, times: numpy.ndarray) -> numpy.ndarray:
     return rows
 
 
+CHUNK = 1 << 17  # nodes per block of phases (a multiple of every factor used): bounds the memory
+
+
 def probability_tables(path: Geodesic, gaps: numpy.ndarray, nus: numpy.ndarray,
                        factor: int) -> tuple[numpy.ndarray, numpy.ndarray]:
     """|A(gap, nu)|^2 (one row per gap) on every `factor`-th node (weights times `factor`: the
     trapezoid sum at the coarser phase step) and on all nodes.  The phases exp(i nu u) and
     exp(i gap tau) are computed once for all pairs, and each set of trapezoid sums (the
-    integrand vanishes at both ends) is one matrix product."""
-    by_nu = _phases(nus, path.u)
-    by_gap = _phases(gaps, path.tau) * path.weight[None, :]
-    keep = _every(len(path.u), factor)
-    coarse = (by_gap[:, keep] * factor) @ by_nu[:, keep].T
-    return numpy.abs(coarse) ** 2, numpy.abs(by_gap @ by_nu.T) ** 2
+    integrand vanishes at both ends) is one matrix product per block of CHUNK nodes (near
+    extremality the fall needs millions of nodes: blocks keep the phase arrays small)."""
+    coarse = numpy.zeros((len(gaps), len(nus)), dtype=complex)
+    fine = numpy.zeros_like(coarse)
+    for start in range(0, len(path.u), CHUNK):
+        block = slice(start, start + CHUNK)
+        by_nu = _phases(nus, path.u[block])
+        by_gap = _phases(gaps, path.tau[block]) * path.weight[block][None, :]
+        keep = _every(by_nu.shape[1], factor)  # block starts are multiples of factor
+        coarse += (by_gap[:, keep] * factor) @ by_nu[:, keep].T
+        fine += by_gap @ by_nu.T
+    return numpy.abs(coarse) ** 2, numpy.abs(fine) ** 2
 
 
 def fit_temperature(nus: numpy.ndarray, p: numpy.ndarray, guess: float) -> tuple[float, float]:
