@@ -17,9 +17,9 @@ from dataclasses import dataclass
 
 import sympy
 
+from crosscheck import fieldroots as er
 from crosscheck import probing
 from crosscheck.errors import CannotCompute
-from crosscheck import fieldroots as er
 
 MAX_ORDER = 4  # highest Taylor order looked at (an extremal horizon has order 2)
 SIMPLIFY_OPS = 80  # sympy simplify only below this many operations (it can hang)

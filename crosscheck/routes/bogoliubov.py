@@ -28,8 +28,8 @@ import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
-from crosscheck.routes import _null_rays as nr
 from crosscheck.probing import probe_points
+from crosscheck.routes import _null_rays as nr
 from crosscheck.routes._bogoliubov_integrals import LateTimeCoefficients, thermal_fit
 from crosscheck.routes._bogoliubov_symbolic import map_exponent
 from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult

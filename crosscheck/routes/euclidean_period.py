@@ -27,12 +27,12 @@ from typing import ClassVar, Literal
 import mpmath
 import sympy
 
+from crosscheck import fieldroots as er
 from crosscheck import probing
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.routes import _euclidean_period_plane as pl
 from crosscheck.routes import _euclidean_period_quadrature as eq
-from crosscheck import fieldroots as er
 from crosscheck.routes import _euclidean_period_series as es
 from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult
 from crosscheck.spacetimes.base import Spacetime

@@ -27,10 +27,10 @@ from typing import ClassVar, Literal
 import mpmath
 import sympy
 
+from crosscheck import fieldroots as er
 from crosscheck import probing
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
-from crosscheck import fieldroots as er
 from crosscheck.routes import _tunneling_contour as tc
 from crosscheck.routes import _tunneling_plane as tp
 from crosscheck.routes import _tunneling_residue as tr
