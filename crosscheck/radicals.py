@@ -28,6 +28,8 @@ from fractions import Fraction
 import sympy
 from mpmath import iv
 
+from crosscheck import fieldroots
+
 __all__ = ["reduce_radicals", "sign_on_box"]
 
 Box = Mapping[sympy.Symbol, tuple[Fraction, Fraction]]
@@ -63,12 +65,20 @@ def _interval(expr: sympy.Expr, box: Mapping[sympy.Symbol, object]):
             return base**n
         if base.a > 0 or base.b < 0:
             return 1 / base ** (-n)
+        return iv.mpf(["-inf", "inf"])  # the divisor's interval holds 0: bisection may separate it
     raise _Unknown(type(expr).__name__)
 
 
-def _intervals(box: Box) -> dict[sympy.Symbol, object]:
-    return {s: iv.mpf([iv.mpf(lo.numerator) / lo.denominator, iv.mpf(hi.numerator) / hi.denominator])
-            for s, (lo, hi) in box.items()}
+def _intervals(box: Box, roots: Mapping[sympy.Symbol, sympy.Expr] | None = None) -> dict[sympy.Symbol, object]:
+    """Intervals of the parameters, and of each root symbol s = sqrt(g) from g's interval."""
+    values = {s: iv.mpf([iv.mpf(lo.numerator) / lo.denominator, iv.mpf(hi.numerator) / hi.denominator])
+              for s, (lo, hi) in box.items()}
+    for root, radicand in (roots or {}).items():
+        square = _interval(radicand, values)
+        if square.a < 0:
+            raise _Unknown("a root of a possibly negative radicand")
+        values[root] = iv.sqrt(square)
+    return values
 
 
 def _bisected(box: Box) -> tuple[Box, Box]:
@@ -78,10 +88,14 @@ def _bisected(box: Box) -> tuple[Box, Box]:
     return {**box, widest: (lo, middle)}, {**box, widest: (middle, hi)}
 
 
-def sign_on_box(expr: sympy.Expr, box: Box, splits: int = MAX_SPLITS) -> int:
-    """+1 if expr >= 0 on all of box, -1 if expr <= 0, 0 if that is not proved."""
+def sign_on_box(expr: sympy.Expr, box: Box, splits: int = MAX_SPLITS,
+                roots: Mapping[sympy.Symbol, sympy.Expr] | None = None) -> int:
+    """+1 if expr >= 0 on all of box, -1 if expr <= 0, 0 if that is not proved.
+    `roots` maps symbols standing for sqrt(g) to g (g free of such symbols)."""
+    used = expr.free_symbols.union(*(g.free_symbols for g in (roots or {}).values()))
+    box = {symbol: bounds for symbol, bounds in box.items() if symbol in used}  # bisect only these
     try:
-        value = _interval(expr, _intervals(box))
+        value = _interval(expr, _intervals(box, roots))
     except (_Unknown, ZeroDivisionError):
         return 0
     if value.a >= 0:
@@ -90,7 +104,7 @@ def sign_on_box(expr: sympy.Expr, box: Box, splits: int = MAX_SPLITS) -> int:
         return -1
     if splits == 0 or not box:
         return 0
-    halves = [sign_on_box(expr, half, splits - 1) for half in _bisected(box)]
+    halves = [sign_on_box(expr, half, splits - 1, roots) for half in _bisected(box)]
     return halves[0] if halves[0] == halves[1] else 0
 
 
@@ -109,14 +123,37 @@ class _Roots:
     def root(self, radicand: sympy.Expr) -> sympy.Expr:
         """sqrt(radicand), written with the generators (split into factors when
         their signs are proved on the box, whole otherwise)."""
-        if not _half_powers(radicand) and not radicand.free_symbols & set(self.symbols.values()):
+        inner = radicand.free_symbols & set(self.symbols.values())
+        if not _half_powers(radicand):
             try:
-                split = self._split(radicand)
-            except sympy.PolynomialError:  # not a rational function: keep it whole
+                split = self._nested(radicand, inner) if inner else self._split(radicand)
+            except (sympy.PolynomialError, _Unknown):  # not a rational function: keep it whole
                 split = None
             if split is not None:
                 return split
         return self._generator(radicand)
+
+    def _nested(self, radicand: sympy.Expr, inner: set[sympy.Symbol]) -> sympy.Expr | None:
+        """sqrt(radicand) for a radicand in one inner root s = sqrt(g), when it is a square
+        w^2 in the field Q(parameters)(s) (checked exactly) and w's sign is proved on the box:
+        sqrt((1 - q^2)/(2 + 2 s - q^2)^2) = s/(2 + 2 s - q^2) with s = sqrt(1 - q^2)."""
+        if len(inner) != 1:
+            return None
+        (root,) = inner
+        radicand_of = {symbol: g for g, symbol in self.symbols.items()}
+        g = radicand_of[root]
+        if g.free_symbols & set(self.symbols.values()):
+            return None
+        top, bottom = sympy.fraction(sympy.together(radicand))
+        radicand = sympy.expand(top) / sympy.expand(bottom)
+        for candidate in fieldroots.field_sqrt(radicand, sympy.Poly(root**2 - g, root)):
+            numerator, _ = sympy.fraction(sympy.together(candidate**2 - radicand))
+            if _reduce_powers(sympy.expand(numerator), root, g) != 0:
+                continue
+            sign = sign_on_box(candidate, self.box, roots={root: g})
+            if sign != 0:
+                return sign * candidate
+        return None
 
     def _generator(self, g: sympy.Expr) -> sympy.Symbol:
         key = sympy.expand(g)
@@ -131,6 +168,7 @@ class _Roots:
         factor's sign is not proved on the box."""
         numerator, denominator = sympy.fraction(sympy.together(radicand))
         content, result = sympy.S.One, sympy.S.One
+        odd = {1: sympy.S.One, -1: sympy.S.One}
         for polynomial, side in ((numerator, 1), (denominator, -1)):
             part_content, factors = sympy.factor_list(polynomial)
             content *= part_content**side
@@ -140,10 +178,13 @@ class _Roots:
                     return None
                 content *= sign ** power
                 result *= (sign * factor) ** (side * (power // 2))
-                if power % 2:
-                    result *= self._generator(sign * factor) ** side
+                if power % 2:  # odd powers stay under one root: sqrt(1 - q) sqrt(1 + q) is sqrt(1 - q^2)
+                    odd[side] *= sign * factor
         if not (content.is_number and content.is_positive):
             return None
+        for side, product in odd.items():
+            if product != 1:
+                result *= self._generator(product) ** side
         return sympy.sqrt(content) * result
 
     def relations(self) -> list[tuple[sympy.Symbol, sympy.Expr]]:

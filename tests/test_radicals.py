@@ -92,3 +92,25 @@ def test_symbolic_verdict_proves_the_kerr_temperature_quickly():
     parameters = [Parameter("M", M, sympy.Rational(1, 2), sympy.Rational(20)), Parameter("chi", chi, sympy.Rational(0), sympy.Rational(19, 20))]
     check = compare.symbolic_verdict(route, claim, parameters, time_budget=4.0)
     assert check.verdict == "proved"
+
+
+def test_a_nested_root_that_is_a_square_in_the_inner_field():
+    # Reissner-Nordstrom T written as a route may return it, with a nested root:
+    # sqrt((1 - q^2)/(q^4 - 4 q^2 s - 8 q^2 + 8 s + 8))/(2 pi M), s = sqrt(1 - q^2); the
+    # radicand is s^2/(2 + 2 s - q^2)^2. Source: Gibbons & Hawking 1977 (from memory) for
+    # T = sqrt(M^2 - Q^2)/(2 pi (M + sqrt(M^2 - Q^2))^2), Q = q M.
+    s = sympy.sqrt(1 - q**2)
+    route = sympy.sqrt((1 - q**2) / (q**4 - 4 * q**2 * s - 8 * q**2 + 8 * s + 8)) / (2 * sympy.pi * M)
+    Q = q * M
+    claim = sympy.sqrt(M**2 - Q**2) / (2 * sympy.pi * (M + sympy.sqrt(M**2 - Q**2)) ** 2)
+    box = {M: BOX[M], q: (Fraction(0), Fraction(19, 20))}
+    assert _numerically_zero(route - claim)
+    assert reduce_radicals(route - claim, box) == 0
+
+
+def test_odd_factors_share_one_root():
+    # sqrt(1 - q) sqrt(1 + q) and sqrt(1 - q^2) are one generator (both factors >= 0 on the box).
+    # Source: elementary algebra (common practice, no source).
+    difference = sympy.sqrt(M**2 * (1 - q**2)) * sympy.sqrt(1 - q**2) - M * (1 - q**2)
+    assert _numerically_zero(difference)
+    assert reduce_radicals(difference, BOX) == 0
