@@ -127,7 +127,7 @@ def _with_assumptions(
 
 _CANONICAL_FORMS: tuple[tuple[str, Callable], ...] = (
     ("expand", lambda t, box: sympy.expand(t)),
-    ("square roots reduced over the parameter ranges", reduce_radicals),
+    ("square roots and absolute values reduced over the parameter ranges", reduce_radicals),
     ("cancel", lambda t, box: sympy.cancel(t)),
     ("together", lambda t, box: sympy.together(t)),
     ("radsimp", lambda t, box: sympy.radsimp(t)),

@@ -209,6 +209,16 @@ def _reduce_powers(expanded: sympy.Expr, root: sympy.Symbol, radicand: sympy.Exp
     return sympy.expand(total)
 
 
+def _without_abs(expr: sympy.Expr, box: Box) -> sympy.Expr:
+    """|e| -> e or -e where e's sign on the box is proved (|r_b - r_c| between two horizons)."""
+    mapping = {}
+    for node in expr.atoms(sympy.Abs):
+        sign = sign_on_box(node.args[0], box) if not _half_powers(node.args[0]) else 0
+        if sign != 0:
+            mapping[node] = sign * node.args[0]
+    return expr.xreplace(mapping) if mapping else expr
+
+
 def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
     """The numerator of expr after every square root is reduced (see the module text).
 
@@ -217,7 +227,7 @@ def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
     anything else is only a remainder.
     """
     roots = _Roots(box or {})
-    replaced = _with_generators(expr, roots)
+    replaced = _with_generators(_without_abs(expr, box or {}), roots)
     numerator, _ = sympy.fraction(sympy.together(replaced))
     reduced = sympy.expand(numerator)
     relations = roots.relations()

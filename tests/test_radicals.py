@@ -114,3 +114,16 @@ def test_odd_factors_share_one_root():
     difference = sympy.sqrt(M**2 * (1 - q**2)) * sympy.sqrt(1 - q**2) - M * (1 - q**2)
     assert _numerically_zero(difference)
     assert reduce_radicals(difference, BOX) == 0
+
+
+def test_an_absolute_value_of_known_sign_is_resolved():
+    # Schwarzschild-de Sitter surface gravity between r_b < r_c (Bousso & Hawking 1996, from
+    # memory, without the normalisation): |r_b - r_c| is r_c - r_b on a box with r_c > r_b.
+    rb, rc = sympy.symbols("rb rc", positive=True)
+    box = {rb: (Fraction(1, 2), Fraction(1)), rc: (Fraction(3), Fraction(10))}
+    route = (2 * rb + rc) * sympy.Abs(rb - rc) / (2 * rb * (rb**2 + rb * rc + rc**2))
+    claim = (rc - rb) * (2 * rb + rc) / (2 * rb * (rb**2 + rb * rc + rc**2))
+    assert reduce_radicals(route - claim, box) == 0
+    # On a box where r_b - r_c changes sign nothing is assumed.
+    wide = {rb: (Fraction(1, 2), Fraction(5)), rc: (Fraction(3), Fraction(10))}
+    assert reduce_radicals(route - claim, wide) != 0
