@@ -79,7 +79,7 @@ def speedup(claims: str, files: int, work: str) -> None:
     two, _ = crosscheck(folder, "--no-cache", "--jobs", "2", cwd=work)
     print(f"parallel: {len(chosen)} claim files, no cache")
     print(f"  --jobs 1 {one:7.2f} s   --jobs 2 {two:7.2f} s   speed-up = {one / two:4.2f}x (ideal 2.00x on 2 free cores)")
-    print(f"  isolation cost: --jobs 1 (a forked worker per task) / --jobs 0 (in-process, {inline:.2f} s) = {one / inline:4.2f}x")
+    print(f"  isolation cost: --jobs 1 (a long-lived forked worker) / --jobs 0 (in-process, {inline:.2f} s) = {one / inline:4.2f}x")
 
 
 def growth(claims: str) -> None:
