@@ -6,15 +6,16 @@ canonical form, `simplify` last, gives exactly 0 within a time limit),
 the ranges, ends included), *disproved* (different at a point, reproduced
 with 20 more digits), *inconclusive* (anything else; never a pass).
 Numeric rows compare route numbers with their error estimates; the
-statuses fold it all into words.  `diagnose` is re-exported from
-`crosscheck.diagnose` so the runner needs only this module.
+statuses fold it all into words.  The proof attempts live in
+`crosscheck.proofs`; `diagnose` is re-exported from `crosscheck.diagnose` so
+the runner needs only this module.
 """
 
 from __future__ import annotations
 
 import random
 import time
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from fractions import Fraction
 from itertools import islice
 
@@ -25,7 +26,7 @@ from crosscheck.claim import Parameter
 from crosscheck.diagnose import diagnose
 from crosscheck.measure import Measured
 from crosscheck.mpfunctions import MPMATH_FUNCTIONS
-from crosscheck.radicals import reduce_radicals
+from crosscheck.proofs import prove_zero
 from crosscheck.results import NumericRow, RouteOutcome, SymbolicCheck
 from crosscheck.timebox import run_limited
 
@@ -123,45 +124,6 @@ def _with_assumptions(
         mapping = {s: by_name[s.name] for s in expr.free_symbols if getattr(s, "name", None) in by_name}
         replaced.append(expr.xreplace(mapping))
     return replaced, by_name
-
-
-_CANONICAL_FORMS: tuple[tuple[str, Callable], ...] = (
-    ("expand", lambda t, box: sympy.expand(t)),
-    ("square roots and absolute values reduced over the parameter ranges", reduce_radicals),
-    ("cancel", lambda t, box: sympy.cancel(t)),
-    ("together", lambda t, box: sympy.together(t)),
-    ("radsimp", lambda t, box: sympy.radsimp(t)),
-    ("simplify", lambda t, box: sympy.simplify(t)),
-)
-
-
-def _is_zero_by(name: str, form: Callable, target: sympy.Expr, box, deadline: float, notes: list[str]) -> bool:
-    try:
-        return _run_limited(lambda: form(target, box), deadline - time.monotonic()) == 0
-    except _OutOfTime:
-        notes.append(f"{name} ran out of time")
-    except Exception as exc:  # sympy raises many kinds; this form just fails
-        notes.append(f"{name} failed ({type(exc).__name__})")
-    return False
-
-
-def _prove_zero(targets: list[sympy.Expr], deadline: float, box=None) -> tuple[str | None, list[str]]:
-    """Names of the canonical forms turning every target into 0 (or None), and notes.
-    `box` holds the parameter ranges (symbol -> exact (lo, hi)) for the forms that use them."""
-    notes: list[str] = []
-    if all(t == 0 for t in targets):
-        return "identical after automatic evaluation", notes
-    left, used = list(targets), []
-    for name, form in _CANONICAL_FORMS:
-        still = [t for t in left if not _is_zero_by(name, form, t, box, deadline, notes)]
-        if len(still) < len(left):
-            used.append(name)
-        left = still
-        if not left:
-            return ", ".join(used), notes
-        if time.monotonic() >= deadline:
-            break
-    return None, notes
 
 
 def _mp_value(expr: sympy.Expr, values: Mapping[sympy.Symbol, object], memo: dict, digits: int):
@@ -349,7 +311,7 @@ def symbolic_verdict(
         notes.append("the sides differ at a sample point, so no proof was attempted")
     else:
         box = {symbols[p.name]: (_rational(p.lo), _rational(p.hi)) for p in parameters}
-        proof, notes = _prove_zero(targets, started + 0.75 * time_budget, box)
+        proof, notes = prove_zero(targets, started + 0.75 * time_budget, box)
         if proof is not None:
             what = "d/d(parameters) of route/claim" if scaling else "route - claim"
             return SymbolicCheck("proved", f"{proof}: {what} reduces to 0", **texts)
