@@ -35,7 +35,7 @@ __all__ = ["reduce_radicals", "sign_on_box"]
 Box = Mapping[sympy.Symbol, tuple[Fraction, Fraction]]
 
 #: Give up (leave the expression alone) beyond this many distinct roots.
-MAX_ROOTS = 8
+MAX_ROOTS = 16
 #: Bisections of the box when one interval evaluation cannot fix a sign.
 MAX_SPLITS = 5
 
@@ -108,67 +108,70 @@ def sign_on_box(expr: sympy.Expr, box: Box, splits: int = MAX_SPLITS,
     return halves[0] if halves[0] == halves[1] else 0
 
 
-def _half_powers(expr: sympy.Expr) -> list[sympy.Pow]:
-    """Powers with an odd-half exponent of a non-numeric base: sqrt(P), P^(3/2), 1/sqrt(P)..."""
-    return [p for p in expr.atoms(sympy.Pow) if p.exp.is_Rational and p.exp.q == 2 and not p.base.is_number]
+def _root_powers(expr: sympy.Expr) -> list[sympy.Pow]:
+    """Powers with a fractional exponent of a non-numeric base: sqrt(P), P^(3/2), P^(1/3)..."""
+    return [p for p in expr.atoms(sympy.Pow) if p.exp.is_Rational and p.exp.q > 1 and not p.base.is_number]
 
 
 class _Roots:
-    """The generators s = sqrt(g) met so far, one per distinct g."""
+    """The generators s = g^(1/n) met so far, one per distinct (n, g)."""
 
     def __init__(self, box: Box) -> None:
         self.box = box
-        self.symbols: dict[sympy.Expr, sympy.Symbol] = {}
+        self.symbols: dict[tuple[int, sympy.Expr], sympy.Symbol] = {}
 
-    def root(self, radicand: sympy.Expr) -> sympy.Expr:
-        """sqrt(radicand), written with the generators (split into factors when
-        their signs are proved on the box, whole otherwise)."""
-        inner = radicand.free_symbols & set(self.symbols.values())
-        if not _half_powers(radicand):
+    @property
+    def generators(self) -> set[sympy.Symbol]:
+        return set(self.symbols.values())
+
+    def root(self, radicand: sympy.Expr, n: int) -> sympy.Expr:
+        """radicand^(1/n), written with the generators (split into factors when their
+        signs are proved on the box, whole otherwise)."""
+        inner = radicand.free_symbols & self.generators
+        if not _root_powers(radicand) and (n == 2 or not inner):
             try:
-                split = self._nested(radicand, inner) if inner else self._split(radicand)
+                split = self._nested(radicand, inner) if inner else self._split(radicand, n)
             except (sympy.PolynomialError, _Unknown):  # not a rational function: keep it whole
                 split = None
             if split is not None:
                 return split
-        return self._generator(radicand)
+        return self._generator(radicand, n)
 
     def _nested(self, radicand: sympy.Expr, inner: set[sympy.Symbol]) -> sympy.Expr | None:
-        """sqrt(radicand) for a radicand in one inner root s = sqrt(g), when it is a square
-        w^2 in the field Q(parameters)(s) (checked exactly) and w's sign is proved on the box:
-        sqrt((1 - q^2)/(2 + 2 s - q^2)^2) = s/(2 + 2 s - q^2) with s = sqrt(1 - q^2)."""
+        """sqrt(radicand) for a radicand in one inner square root s = sqrt(g), when it is a
+        square w^2 in the field Q(parameters)(s) (checked exactly) and w's sign is proved on
+        the box: sqrt((1 - q^2)/(2 + 2 s - q^2)^2) = s/(2 + 2 s - q^2) with s = sqrt(1 - q^2)."""
         if len(inner) != 1:
             return None
         (root,) = inner
-        radicand_of = {symbol: g for g, symbol in self.symbols.items()}
-        g = radicand_of[root]
-        if g.free_symbols & set(self.symbols.values()):
+        (n, g), = [key for key, symbol in self.symbols.items() if symbol == root]
+        if n != 2 or g.free_symbols & self.generators:
             return None
         top, bottom = sympy.fraction(sympy.together(radicand))
         radicand = sympy.expand(top) / sympy.expand(bottom)
         for candidate in fieldroots.field_sqrt(radicand, sympy.Poly(root**2 - g, root)):
             numerator, _ = sympy.fraction(sympy.together(candidate**2 - radicand))
-            if _reduce_powers(sympy.expand(numerator), root, g) != 0:
+            if _reduce_powers(sympy.expand(numerator), root, g, 2) != 0:
                 continue
             sign = sign_on_box(candidate, self.box, roots={root: g})
             if sign != 0:
                 return sign * candidate
         return None
 
-    def _generator(self, g: sympy.Expr) -> sympy.Symbol:
-        key = sympy.expand(g)
+    def _generator(self, g: sympy.Expr, n: int) -> sympy.Symbol:
+        key = (n, sympy.expand(g))
         if key not in self.symbols:
             if len(self.symbols) >= MAX_ROOTS:
-                raise ValueError("too many distinct square roots to reduce")
+                raise ValueError("too many distinct roots to reduce")
             self.symbols[key] = sympy.Dummy(f"s{len(self.symbols)}")
         return self.symbols[key]
 
-    def _split(self, radicand: sympy.Expr) -> sympy.Expr | None:
-        """sqrt(N/D) as sqrt(c) * (factors pulled out) * generators, or None when a
+    def _split(self, radicand: sympy.Expr, n: int) -> sympy.Expr | None:
+        """(N/D)^(1/n) as c^(1/n) * (factors pulled out) * generators, or None when a
         factor's sign is not proved on the box."""
         numerator, denominator = sympy.fraction(sympy.together(radicand))
         content, result = sympy.S.One, sympy.S.One
-        odd = {1: sympy.S.One, -1: sympy.S.One}
+        rest = {1: sympy.S.One, -1: sympy.S.One}
         for polynomial, side in ((numerator, 1), (denominator, -1)):
             part_content, factors = sympy.factor_list(polynomial)
             content *= part_content**side
@@ -177,35 +180,35 @@ class _Roots:
                 if sign == 0:
                     return None
                 content *= sign ** power
-                result *= (sign * factor) ** (side * (power // 2))
-                if power % 2:  # odd powers stay under one root: sqrt(1 - q) sqrt(1 + q) is sqrt(1 - q^2)
-                    odd[side] *= sign * factor
+                result *= (sign * factor) ** (side * (power // n))
+                # What is left stays under one root: sqrt(1 - q) sqrt(1 + q) is sqrt(1 - q^2).
+                rest[side] *= (sign * factor) ** (power % n)
         if not (content.is_number and content.is_positive):
             return None
-        for side, product in odd.items():
+        for side, product in rest.items():
             if product != 1:
-                result *= self._generator(product) ** side
-        return sympy.sqrt(content) * result
+                result *= self._generator(product, n) ** side
+        return content ** sympy.Rational(1, n) * result
 
-    def relations(self) -> list[tuple[sympy.Symbol, sympy.Expr]]:
-        return [(s, g) for g, s in self.symbols.items()]
+    def relations(self) -> list[tuple[sympy.Symbol, sympy.Expr, int]]:
+        return [(s, g, n) for (n, g), s in self.symbols.items()]
 
 
 def _with_generators(expr: sympy.Expr, roots: _Roots) -> sympy.Expr:
-    """expr with every sqrt(P)^k replaced by (its generators)^k, innermost roots first."""
-    powers = sorted(_half_powers(expr), key=lambda p: len(_half_powers(p.base)))
+    """expr with every P^(p/n) replaced by (its generators)^p, innermost roots first."""
+    powers = sorted(_root_powers(expr), key=lambda p: len(_root_powers(p.base)))
     mapping: dict[sympy.Expr, sympy.Expr] = {}
     for power in powers:  # an inner root is replaced before any root containing it
         base = power.base.xreplace(mapping)
-        mapping[power] = roots.root(base) ** int(2 * power.exp)
+        mapping[power] = roots.root(base, int(power.exp.q)) ** int(power.exp.p)
     return expr.xreplace(mapping)
 
 
-def _reduce_powers(expanded: sympy.Expr, root: sympy.Symbol, radicand: sympy.Expr) -> sympy.Expr:
-    """root^k -> radicand^(k // 2) * root^(k % 2) in an expanded polynomial."""
+def _reduce_powers(expanded: sympy.Expr, root: sympy.Symbol, radicand: sympy.Expr, n: int) -> sympy.Expr:
+    """root^k -> radicand^(k // n) * root^(k % n) in an expanded polynomial."""
     total = sympy.S.Zero
     for (k,), coefficient in sympy.Poly(expanded, root).terms():
-        total += coefficient * radicand ** (k // 2) * root ** (k % 2)
+        total += coefficient * radicand ** (k // n) * root ** (k % n)
     return sympy.expand(total)
 
 
@@ -213,7 +216,7 @@ def _without_abs(expr: sympy.Expr, box: Box) -> sympy.Expr:
     """|e| -> e or -e where e's sign on the box is proved (|r_b - r_c| between two horizons)."""
     mapping = {}
     for node in expr.atoms(sympy.Abs):
-        sign = sign_on_box(node.args[0], box) if not _half_powers(node.args[0]) else 0
+        sign = sign_on_box(node.args[0], box) if not _root_powers(node.args[0]) else 0
         if sign != 0:
             mapping[node] = sign * node.args[0]
     return expr.xreplace(mapping) if mapping else expr
@@ -232,10 +235,10 @@ def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
     reduced = sympy.expand(numerator)
     relations = roots.relations()
     # Reduce generators whose radicands contain other generators first.
-    relations.sort(key=lambda pair: len(pair[1].free_symbols & set(roots.symbols.values())), reverse=True)
-    for root, radicand in relations:
+    relations.sort(key=lambda item: len(item[1].free_symbols & roots.generators), reverse=True)
+    for root, radicand, n in relations:
         if reduced == 0:
             break
         if reduced.has(root):
-            reduced = _reduce_powers(reduced, root, radicand)
+            reduced = _reduce_powers(reduced, root, radicand, n)
     return reduced

@@ -127,3 +127,18 @@ def test_an_absolute_value_of_known_sign_is_resolved():
     # On a box where r_b - r_c changes sign nothing is assumed.
     wide = {rb: (Fraction(1, 2), Fraction(5)), rc: (Fraction(3), Fraction(10))}
     assert reduce_radicals(route - claim, wide) != 0
+
+
+def test_cube_roots_are_reduced_like_square_roots():
+    # The geodesic radius of Schwarzschild-de Sitter, r_g = (3 M/Lambda)^(1/3) (Bousso & Hawking
+    # 1996, from memory), written two ways: (27 M^3 (chi + chi^2))^(1/3) = 3 M (chi + chi^2)^(1/3)
+    # for M, chi >= 0 (the left radicand expanded, so sympy does not pull M out by itself).
+    # Source: elementary algebra (common practice, no source).
+    third = sympy.Rational(1, 3)
+    difference = sympy.expand(27 * M**3 * (chi + chi**2)) ** third - 3 * M * (chi + chi**2) ** third
+    assert difference != 0  # not decided by sympy's automatic evaluation
+    assert _numerically_zero(difference)
+    assert reduce_radicals(difference, BOX) == 0
+    # (chi^(1/3))^3 = chi exactly; a wrong cube, chi^(1/3) * chi^(1/3) = chi, is not zero.
+    assert reduce_radicals((chi ** sympy.Rational(1, 3)) ** 3 - chi, BOX) == 0
+    assert reduce_radicals(chi ** sympy.Rational(2, 3) - chi, BOX) != 0
