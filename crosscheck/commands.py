@@ -117,20 +117,29 @@ def exit_code(outcomes: Sequence[ClaimOutcome], strict: bool) -> ExitCode:
     return ExitCode.OK
 
 
-def run_command(args, started: float) -> ExitCode:
+def _load(args):
+    """(routes, loaded claims) for `run` and `mutate`, or an exit code once the reason is
+    printed (an unknown route, or no claim file at all); each file error is printed."""
     try:
         all_routes, routes = _routes(args)
     except KeyError as exc:
         print(f"crosscheck: {exc.args[0]}", file=sys.stderr)
         return ExitCode.INPUT_ERROR
     loaded = load_paths(args.paths, known_routes=all_routes)
-    outcomes: list[ClaimOutcome] = []
     for error in loaded.errors:
         print(str(error), file=sys.stderr)
-        outcomes.append(invalid_outcome(error))
     if not loaded.claims and not loaded.errors:
         print(f"crosscheck: no claim files found in {' '.join(args.paths)}", file=sys.stderr)
         return ExitCode.INPUT_ERROR
+    return routes, loaded
+
+
+def run_command(args, started: float) -> ExitCode:
+    prepared = _load(args)
+    if isinstance(prepared, ExitCode):
+        return prepared
+    routes, loaded = prepared
+    outcomes: list[ClaimOutcome] = [invalid_outcome(error) for error in loaded.errors]
     options = _options(args)
     if getattr(args, "audit", False):
         return _audited_run(args, loaded.claims, routes, options, outcomes, started)
@@ -202,17 +211,11 @@ def mutate_command(args, started: float) -> ExitCode:
     """`crosscheck mutate PATH`: how many corrupted claims the checks catch (target 99%)."""
     from crosscheck.audit_io import claim_line, summary, survivor_lines, to_json
 
-    try:
-        all_routes, routes = _routes(args)
-    except KeyError as exc:
-        print(f"crosscheck: {exc.args[0]}", file=sys.stderr)
-        return ExitCode.INPUT_ERROR
-    loaded = load_paths(args.paths, known_routes=all_routes)
-    for error in loaded.errors:
-        print(str(error), file=sys.stderr)
-    if loaded.errors or not loaded.claims:
-        if not loaded.errors:
-            print(f"crosscheck: no claim files found in {' '.join(args.paths)}", file=sys.stderr)
+    prepared = _load(args)
+    if isinstance(prepared, ExitCode):
+        return prepared
+    routes, loaded = prepared
+    if loaded.errors:  # an audit of a partly unreadable library would be misleading
         return ExitCode.INPUT_ERROR
     options = _options(args)
 
