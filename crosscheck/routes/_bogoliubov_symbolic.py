@@ -67,7 +67,10 @@ class _Horizon:
 
     def vanishes(self, expr: sympy.Expr) -> bool:
         """expr(r = rho = r_h) == 0 at every parameter point (exact zero test at two precisions)."""
-        return is_zero(sympy.sympify(expr).subs({self.r: self.r_h, self.rho: self.r_h}), self.points)
+        # Only sympy objects come here (Poly.as_expr, the metric's R); an int would mean a
+        # constant, and no text is ever converted (claim text is parsed by crosscheck.expr).
+        value = sympy.Integer(expr) if isinstance(expr, int) else expr
+        return is_zero(value.subs({self.r: self.r_h, self.rho: self.r_h}), self.points)
 
     def multiplicity(self, poly: sympy.Poly) -> tuple[int, sympy.Poly]:
         """(k, quotient) with poly = (r - r_h)^k quotient + (terms vanishing at r_h),

@@ -95,6 +95,21 @@ def route_scope(route: object) -> frozenset[str]:
     return frozenset(getattr(route, "scope", DEFAULT_SCOPE))
 
 
+def horizon_input_obstacle(problem: Problem, observables: frozenset[str]) -> str | None:
+    """Why a horizon route cannot take this problem at all (no spacetime, no horizon, an
+    observable it does not compute), or None: the common part of `applies`."""
+    spacetime = problem.spacetime
+    if spacetime is None:
+        return "needs a spacetime"
+    spec = spacetime.horizon
+    if spec is None or (spec.expression is None and spec.root is None):
+        return "needs a spacetime with a horizon"
+    missing = problem.wanted - observables
+    if missing:
+        return f"does not compute {', '.join(sorted(missing))}"
+    return None
+
+
 @runtime_checkable
 class Route(Protocol):
     """What every route provides.  See DEVELOPERS.md, "Adding a route"."""

@@ -34,7 +34,7 @@ from crosscheck.measure import Measured
 from crosscheck.routes import _euclidean_period_plane as pl
 from crosscheck.routes import _euclidean_period_quadrature as eq
 from crosscheck.routes import _euclidean_period_series as es
-from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult
+from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult, horizon_input_obstacle
 from crosscheck.spacetimes.base import Spacetime
 from crosscheck.spacetimes.evaluation import to_mp
 from crosscheck.spacetimes.horizon import horizon_radius, horizon_radius_numeric
@@ -59,16 +59,10 @@ class EuclideanPeriodRoute:
     observables: ClassVar[frozenset[str]] = OBSERVABLES
 
     def applies(self, problem: Problem) -> str | None:
-        spacetime = problem.spacetime
-        if spacetime is None:
-            return "needs a spacetime"
-        spec = spacetime.horizon
-        if spec is None or (spec.expression is None and spec.root is None):
-            return "needs a spacetime with a horizon"
-        missing = problem.wanted - OBSERVABLES
-        if missing:
-            return f"does not compute {', '.join(sorted(missing))}"
-        return pl.obstacle(spacetime.metric)
+        reason = horizon_input_obstacle(problem, OBSERVABLES)
+        if reason:
+            return reason
+        return pl.obstacle(problem.spacetime.metric)
 
     def symbolic(self, problem: Problem) -> SymbolicResult:
         return _symbolic(problem)

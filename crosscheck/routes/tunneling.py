@@ -34,7 +34,7 @@ from crosscheck.measure import Measured
 from crosscheck.routes import _tunneling_contour as tc
 from crosscheck.routes import _tunneling_plane as tp
 from crosscheck.routes import _tunneling_residue as tr
-from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult
+from crosscheck.routes.base import NumericResult, Problem, Step, SymbolicResult, horizon_input_obstacle
 from crosscheck.spacetimes.base import Spacetime
 from crosscheck.spacetimes.evaluation import to_mp
 from crosscheck.spacetimes.horizon import horizon_radius, horizon_radius_numeric
@@ -61,16 +61,10 @@ class TunnelingRoute:
     observables: ClassVar[frozenset[str]] = OBSERVABLES
 
     def applies(self, problem: Problem) -> str | None:
-        spacetime = problem.spacetime
-        if spacetime is None:
-            return "needs a spacetime"
-        spec = spacetime.horizon
-        if spec is None or (spec.expression is None and spec.root is None):
-            return "needs a spacetime with a horizon"
-        missing = problem.wanted - OBSERVABLES
-        if missing:
-            return f"does not compute {', '.join(sorted(missing))}"
-        return tp.obstacle(spacetime.metric)
+        reason = horizon_input_obstacle(problem, OBSERVABLES)
+        if reason:
+            return reason
+        return tp.obstacle(problem.spacetime.metric)
 
     def symbolic(self, problem: Problem) -> SymbolicResult:
         return _symbolic(problem)
