@@ -22,6 +22,7 @@ the caller goes on to other canonical forms.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from fractions import Fraction
 
@@ -89,22 +90,23 @@ def _bisected(box: Box) -> tuple[Box, Box]:
 
 
 def sign_on_box(expr: sympy.Expr, box: Box, splits: int = MAX_SPLITS,
-                roots: Mapping[sympy.Symbol, sympy.Expr] | None = None) -> int:
-    """+1 if expr >= 0 on all of box, -1 if expr <= 0, 0 if that is not proved.
-    `roots` maps symbols standing for sqrt(g) to g (g free of such symbols)."""
+                roots: Mapping[sympy.Symbol, sympy.Expr] | None = None, strict: bool = False) -> int:
+    """+1 if expr >= 0 on all of box, -1 if expr <= 0, 0 if that is not proved
+    (strict: > 0 and < 0).  `roots` maps symbols standing for sqrt(g) to g (g free
+    of such symbols)."""
     used = expr.free_symbols.union(*(g.free_symbols for g in (roots or {}).values()))
     box = {symbol: bounds for symbol, bounds in box.items() if symbol in used}  # bisect only these
     try:
         value = _interval(expr, _intervals(box, roots))
     except (_Unknown, ZeroDivisionError):
         return 0
-    if value.a >= 0:
+    if value.a > 0 or (value.a == 0 and not strict):
         return 1
-    if value.b <= 0:
+    if value.b < 0 or (value.b == 0 and not strict):
         return -1
     if splits == 0 or not box:
         return 0
-    halves = [sign_on_box(expr, half, splits - 1, roots) for half in _bisected(box)]
+    halves = [sign_on_box(expr, half, splits - 1, roots, strict) for half in _bisected(box)]
     return halves[0] if halves[0] == halves[1] else 0
 
 
@@ -114,10 +116,15 @@ def _root_powers(expr: sympy.Expr) -> list[sympy.Pow]:
 
 
 class _Roots:
-    """The generators s = g^(1/n) met so far, one per distinct (n, g)."""
+    """The generators s = g^(1/n) met so far, one per distinct (n, g).
 
-    def __init__(self, box: Box) -> None:
+    `index` maps a radicand g to the one index L it is given whatever root of it is
+    met: g^(1/n) is then s^(L/n) with s^L = g.  rb^(1/3) and rb^(1/6) must share a
+    generator, or the reduction cannot see that (rb^(1/6))^2 = rb^(1/3)."""
+
+    def __init__(self, box: Box, index: Mapping[sympy.Expr, int] | None = None) -> None:
         self.box = box
+        self.index = dict(index or {})
         self.symbols: dict[tuple[int, sympy.Expr], sympy.Symbol] = {}
 
     @property
@@ -128,50 +135,131 @@ class _Roots:
         """radicand^(1/n), written with the generators (split into factors when their
         signs are proved on the box, whole otherwise)."""
         inner = radicand.free_symbols & self.generators
-        if not _root_powers(radicand) and (n == 2 or not inner):
+        if not _root_powers(radicand):
             try:
-                split = self._nested(radicand, inner) if inner else self._split(radicand, n)
+                split = self._split(radicand, n) if not inner else self._nested(radicand, inner) if n == 2 else None
             except (sympy.PolynomialError, _Unknown):  # not a rational function: keep it whole
                 split = None
             if split is not None:
                 return split
-        return self._generator(radicand, n)
+        return self._generator(self.reduced(radicand) if inner else radicand, n)
 
     def _nested(self, radicand: sympy.Expr, inner: set[sympy.Symbol]) -> sympy.Expr | None:
-        """sqrt(radicand) for a radicand in one inner square root s = sqrt(g), when it is a
-        square w^2 in the field Q(parameters)(s) (checked exactly) and w's sign is proved on
-        the box: sqrt((1 - q^2)/(2 + 2 s - q^2)^2) = s/(2 + 2 s - q^2) with s = sqrt(1 - q^2)."""
-        if len(inner) != 1:
+        """sqrt(radicand) for a radicand in inner roots: its root in the field of the
+        inner root when it is a square there, else sqrt(top) / sqrt(bottom), each part
+        simplified the same way (the two sides of a claim often write one radicand
+        over different denominators: sqrt(P / (x r_h)^2) and sqrt(P) / (x r_h))."""
+        whole = self._field_square(radicand, inner)
+        if whole is not None:
+            return whole
+        top, bottom = (self.reduced(part) for part in sympy.fraction(sympy.together(radicand)))
+        if bottom.free_symbols & self.generators:
+            root_of_bottom = self._field_square(bottom, inner)  # proved >= 0, so sqrt(top/bottom) = sqrt(top)/it
+            sign = 1
+        else:
+            sign = sign_on_box(bottom, self.box, strict=True)  # sqrt(a/b) = sqrt(a)/sqrt(b) for b > 0
+            root_of_bottom = self.root(sign * bottom, 2) if sign != 0 else None
+        if root_of_bottom is None:
             return None
-        (root,) = inner
-        (n, g), = [key for key, symbol in self.symbols.items() if symbol == root]
-        if n != 2 or g.free_symbols & self.generators:
+        return self._root_of_top(sign * top, inner) / root_of_bottom
+
+    def _root_of_top(self, top: sympy.Expr, inner: set[sympy.Symbol]) -> sympy.Expr:
+        """sqrt(top) for a polynomial in the parameters and inner roots: a field square,
+        or sqrt(|c|) times a generator of top/c, with c the numeric factor of top's
+        leading term (so that P and 2 P share a generator)."""
+        square = self._field_square(top, inner) if top.free_symbols & inner else None
+        if square is not None:
+            return square
+        outside, top = self._common_factor(top)
+        if outside != 1:  # sqrt(a b) = sqrt(a) sqrt(b) for a > 0
+            return self._split(outside, 2) * self._root_of_top(top, inner)
+        terms = sorted(sympy.Add.make_args(top), key=sympy.default_sort_key)
+        content, _ = terms[0].as_independent(*top.free_symbols)
+        if not (content.is_number and content.is_real and content != 0):
+            return self._generator(top, 2)
+        sign = 1 if content.is_positive else -1
+        return sympy.sqrt(sign * content) * self._generator(sympy.expand(top / (sign * content)), 2)
+
+    def _common_factor(self, top: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
+        """(a, top / a): a the factor common to top's terms that is free of roots and
+        proved positive on the box (M^2 in M^2 x^2 s - M^2 x), else (1, top)."""
+        outside = [f for f in sympy.Mul.make_args(sympy.factor_terms(top))
+                   if not f.is_Add and not f.is_number and not (f.free_symbols & self.generators)]
+        common = sympy.Mul(*outside)
+        if common == 1 or self._split(common, 2) is None or sign_on_box(common, self.box, strict=True) != 1:
+            return sympy.S.One, top
+        return common, sympy.expand(sympy.cancel(top / common))
+
+    def _field_square(self, radicand: sympy.Expr, inner: set[sympy.Symbol]) -> sympy.Expr | None:
+        """w >= 0 (proved on the box) with w^2 = radicand exactly, w in the field of one
+        square root t (t a product of inner square roots when the radicand holds only
+        that product: sqrt(1 - q) sqrt(1 + q)), or None."""
+        single = self._single_root(inner)
+        if single is None:
             return None
-        top, bottom = sympy.fraction(sympy.together(radicand))
-        radicand = sympy.expand(top) / sympy.expand(bottom)
-        for candidate in fieldroots.field_sqrt(radicand, sympy.Poly(root**2 - g, root)):
-            numerator, _ = sympy.fraction(sympy.together(candidate**2 - radicand))
-            if _reduce_powers(sympy.expand(numerator), root, g, 2) != 0:
+        t, g, back = single
+        z = _in_product(radicand, sorted(inner, key=str), t)
+        if z is None:
+            return None
+        top, bottom = sympy.fraction(sympy.together(z))
+        z = sympy.expand(top) / sympy.expand(bottom)
+        for candidate in fieldroots.field_sqrt(z, sympy.Poly(t**2 - g, t)):
+            numerator, _ = sympy.fraction(sympy.together(candidate**2 - z))
+            if _reduce_powers(sympy.expand(numerator), t, g, 2) != 0:
                 continue
-            sign = sign_on_box(candidate, self.box, roots={root: g})
+            sign = sign_on_box(candidate, self.box, roots={t: g})
             if sign != 0:
-                return sign * candidate
+                return sign * candidate.xreplace({t: back})
         return None
 
-    def _generator(self, g: sympy.Expr, n: int) -> sympy.Symbol:
-        key = (n, sympy.expand(g))
+    def _single_root(self, inner: set[sympy.Symbol]) -> tuple[sympy.Symbol, sympy.Expr, sympy.Expr] | None:
+        """(t, g, product of inner roots) with t^2 = g, when every inner root is a square
+        root of a radicand free of roots (and, for a product, proved positive)."""
+        keys = {symbol: key for key, symbol in self.symbols.items()}
+        radicands = []
+        for root in inner:
+            n, g = keys[root]
+            if n != 2 or g.free_symbols & self.generators:
+                return None
+            if len(inner) > 1 and sign_on_box(g, self.box, strict=True) != 1:
+                return None  # sqrt(a) sqrt(b) = sqrt(a b) needs a, b > 0
+            radicands.append(g)
+        if len(inner) == 1:
+            (root,) = inner
+            return root, radicands[0], root
+        return sympy.Dummy("t"), sympy.expand(sympy.Mul(*radicands)), sympy.Mul(*inner)
+
+    def reduced(self, expr: sympy.Expr) -> sympy.Expr:
+        """expr expanded, each generator's powers reduced below its index (s^n = g)."""
+        expr = sympy.expand(expr)
+        for (n, g), symbol in sorted(self.symbols.items(), key=lambda item: -len(item[0][1].free_symbols & self.generators)):
+            if expr.has(symbol):
+                expr = _reduce_powers(expr, symbol, g, n)
+        return expr
+
+    def _generator(self, g: sympy.Expr, n: int) -> sympy.Expr:
+        g = sympy.expand(g)
+        common = self.index.get(g, n)
+        key = (common, g)
         if key not in self.symbols:
             if len(self.symbols) >= MAX_ROOTS:
                 raise ValueError("too many distinct roots to reduce")
             self.symbols[key] = sympy.Dummy(f"s{len(self.symbols)}")
-        return self.symbols[key]
+        return self.symbols[key] ** (common // n)
+
+    def common_indices(self) -> dict[sympy.Expr, int]:
+        """Each radicand met with several indices, with their least common multiple."""
+        seen: dict[sympy.Expr, list[int]] = {}
+        for n, g in self.symbols:
+            seen.setdefault(g, []).append(n)
+        return {g: math.lcm(*ns) for g, ns in seen.items() if len(ns) > 1}
 
     def _split(self, radicand: sympy.Expr, n: int) -> sympy.Expr | None:
         """(N/D)^(1/n) as c^(1/n) * (factors pulled out) * generators, or None when a
         factor's sign is not proved on the box."""
         numerator, denominator = sympy.fraction(sympy.together(radicand))
         content, result = sympy.S.One, sympy.S.One
-        rest = {1: sympy.S.One, -1: sympy.S.One}
+        rest: list[tuple[sympy.Expr, int]] = []
         for polynomial, side in ((numerator, 1), (denominator, -1)):
             part_content, factors = sympy.factor_list(polynomial)
             content *= part_content**side
@@ -181,13 +269,14 @@ class _Roots:
                     return None
                 content *= sign ** power
                 result *= (sign * factor) ** (side * (power // n))
-                # What is left stays under one root: sqrt(1 - q) sqrt(1 + q) is sqrt(1 - q^2).
-                rest[side] *= (sign * factor) ** (power % n)
+                # One generator per factor (factorisation is unique, a grouping is not):
+                # sqrt(1 - q) sqrt(1 + q) and sqrt(1 - q^2) are then the same product.
+                rest.append(((sign * factor), side * (power % n)))
         if not (content.is_number and content.is_positive):
             return None
-        for side, product in rest.items():
-            if product != 1:
-                result *= self._generator(product, n) ** side
+        for factor, power in rest:
+            if power != 0:
+                result *= self._generator(factor, n) ** power
         return content ** sympy.Rational(1, n) * result
 
     def relations(self) -> list[tuple[sympy.Symbol, sympy.Expr, int]]:
@@ -202,6 +291,22 @@ def _with_generators(expr: sympy.Expr, roots: _Roots) -> sympy.Expr:
         base = power.base.xreplace(mapping)
         mapping[power] = roots.root(base, int(power.exp.q)) ** int(power.exp.p)
     return expr.xreplace(mapping)
+
+
+def _in_product(expr: sympy.Expr, roots: list[sympy.Symbol], t: sympy.Symbol) -> sympy.Expr | None:
+    """expr with the product of `roots` written as t, or None when the roots do not
+    appear only through their product (each monomial has equal powers of all)."""
+    if len(roots) == 1:
+        return expr.xreplace({roots[0]: t})
+    parts = []
+    for part in sympy.fraction(sympy.together(expr)):
+        total = sympy.S.Zero
+        for powers, coefficient in sympy.Poly(sympy.expand(part), *roots).terms():
+            if len(set(powers)) != 1:
+                return None
+            total += coefficient * t ** powers[0]
+        parts.append(total)
+    return parts[0] / parts[1]
 
 
 def _reduce_powers(expanded: sympy.Expr, root: sympy.Symbol, radicand: sympy.Expr, n: int) -> sympy.Expr:
@@ -229,8 +334,13 @@ def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
     radicand is split.  Zero means expr is identically zero on the box;
     anything else is only a remainder.
     """
+    plain = _without_abs(expr, box or {})
     roots = _Roots(box or {})
-    replaced = _with_generators(_without_abs(expr, box or {}), roots)
+    replaced = _with_generators(plain, roots)
+    common = roots.common_indices()
+    if common:  # again, with one generator per radicand
+        roots = _Roots(box or {}, common)
+        replaced = _with_generators(plain, roots)
     numerator, _ = sympy.fraction(sympy.together(replaced))
     reduced = sympy.expand(numerator)
     relations = roots.relations()
@@ -242,3 +352,4 @@ def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
         if reduced.has(root):
             reduced = _reduce_powers(reduced, root, radicand, n)
     return reduced
+

@@ -142,3 +142,47 @@ def test_cube_roots_are_reduced_like_square_roots():
     # (chi^(1/3))^3 = chi exactly; a wrong cube, chi^(1/3) * chi^(1/3) = chi, is not zero.
     assert reduce_radicals((chi ** sympy.Rational(1, 3)) ** 3 - chi, BOX) == 0
     assert reduce_radicals(chi ** sympy.Rational(2, 3) - chi, BOX) != 0
+
+
+def test_roots_of_one_radicand_with_different_indices_share_a_generator():
+    # (M^(1/6))^2 = M^(1/3): with separate generators for M^(1/6) and M^(1/3) the
+    # difference would not reduce.  Source: elementary algebra (common practice, no source).
+    # (M + M q)^(1/6) splits into M^(1/6) (1 + q)^(1/6); sympy keeps all three powers apart.
+    sixth, third = sympy.Rational(1, 6), sympy.Rational(1, 3)
+    tricky = (M + M * q) ** sixth * (1 + q) ** sixth - M**sixth * (1 + q) ** third
+    assert _numerically_zero(tricky)
+    assert reduce_radicals(tricky, BOX) == 0
+    assert reduce_radicals((M + M * q) ** sixth * (1 + q) ** sixth - M**third * (1 + q) ** third, BOX) != 0
+
+
+def test_a_nested_root_written_with_the_inner_root_as_a_product():
+    # The Kerr temperature as a route writes it from a metric typed out by hand:
+    # sqrt((1 - chi^2)/(2 + 2 sqrt(1 - chi) sqrt(1 + chi) - chi^2))/(2 M); the claim writes
+    # sqrt(M^2 - a^2)/(2 M (M + sqrt(M^2 - a^2))) with a = chi M.  The radicand is a square in the
+    # field of t = sqrt(1 - chi) sqrt(1 + chi) = sqrt(1 - chi^2) only once the product is seen.
+    # Source: Wald 1984, eq. 12.5.4 (from memory), kappa = sqrt(M^2 - a^2)/(2 M r_+).
+    route = sympy.sqrt((1 - chi**2) / (2 + 2 * sympy.sqrt(1 - chi) * sympy.sqrt(1 + chi) - chi**2)) / (2 * M)
+    a = chi * M
+    claim = sympy.sqrt(M**2 - a**2) / (2 * M * (M + sympy.sqrt(M**2 - a**2)))
+    assert _numerically_zero(route - claim)
+    assert reduce_radicals(route - claim, BOX) == 0
+    assert reduce_radicals(route - 2 * claim, BOX) != 0
+
+
+def test_one_nested_radicand_over_two_denominators():
+    # The Tolman temperature of Reissner-Nordstrom at r = x r_+, written as
+    # T/sqrt(F(r)) with F = (r^2 - 2 M r + Q^2)/r^2: a route writes sqrt(F) as
+    # sqrt(r^2 - 2 M r + Q^2)/r, a claim as sqrt(1 - 2M/r + Q^2/r^2); r_+ = M + sqrt(M^2 - Q^2)
+    # is nested inside both radicands.  Source: Tolman 1930 (from memory) for T_loc = T/sqrt(F).
+    x = sympy.symbols("x", positive=True)
+    Q = q * M
+    rp = M + sympy.sqrt(M**2 - Q**2)
+    r = x * rp
+    route = 1 / (sympy.sqrt(r**2 - 2 * M * r + Q**2) / r)
+    claim = 1 / sympy.sqrt(1 - 2 * M / r + Q**2 / r**2)
+    box = {M: BOX[M], q: BOX[q], x: (Fraction(2), Fraction(5))}
+    with mpmath.workdps(40):
+        point = {M: 3, q: sympy.Rational(1, 5), x: 3}
+        assert abs(sympy.N((route - claim).subs(point), 40)) < 1e-30
+    assert reduce_radicals(route - claim, box) == 0
+    assert reduce_radicals(route - claim * (1 + q), box) != 0
