@@ -22,7 +22,7 @@ from sympy.core.function import AppliedUndef
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
 from crosscheck.mpfunctions import MPMATH_FUNCTIONS
-from crosscheck.numerics import richardson_limit
+from crosscheck.numerics import richardson_limit, richardson_until
 from crosscheck.observables import FUNCTION_OBSERVABLES, SCALAR_OBSERVABLES, substitute_observables
 from crosscheck.routes.base import NumericResult, SymbolicResult
 
@@ -123,8 +123,9 @@ class NumericEvaluator:
             minus = self._shifted(node.expr, variable, x0 - h, env, params)
             return (plus - minus) / (2 * h)
 
-        estimate, _ = richardson_limit(central, scale * mpmath.mpf("1e-2"), steps=6, orders=[2, 4, 6, 8, 10])
-        return estimate
+        # All but the last two working digits: more than any comparison uses.
+        target = mpmath.mpf(10) ** (2 - self.digits)
+        return richardson_until(central, scale * mpmath.mpf("1e-2"), relative=target, orders=[2, 4, 6, 8, 10])
 
     def _shifted(self, expr, variable, value, env, params) -> mpmath.mpf:
         new_env = dict(env)
