@@ -62,7 +62,6 @@ def chromium() -> str:
 
 @pytest.fixture(scope="module")
 def report(tmp_path_factory) -> Path:
-    pytest.importorskip("matplotlib")  # the plots extra: the report's SVG plots are part of what is checked
     routes, _ = load_routes()
     claims, errors = load_claim_text(WRONG, "claims/demo/wrong-temperature.yaml", known_routes=routes)
     loaded = load_paths([str(ROOT / p) for p in LIBRARY], known_routes=routes)

@@ -140,7 +140,6 @@ def test_matrix_filter_marks_and_sections(good_and_wrong):
 
 
 def test_ratio_of_a_disagreement_is_plotted(good_and_wrong):
-    pytest.importorskip("matplotlib")
     wrong = good_and_wrong[1]
     route = next(r for r in wrong.routes if r.route == "killing-horizon")
     # Source: Hawking 1975, T = 1/(8 pi M); the wrong claim 1/(4 pi M) is twice that at every point.
@@ -168,7 +167,6 @@ def fabricated_route(name: str = "<script>alert('series')</script>") -> RouteOut
 
 
 def test_evidence_series_become_inline_svg_with_unique_ids():
-    pytest.importorskip("matplotlib")
     import dataclasses
 
     route = fabricated_route()
@@ -186,12 +184,14 @@ def test_evidence_series_become_inline_svg_with_unique_ids():
             assert f'id="{ref}"' in svg  # every internal reference stays inside its own figure
 
 
-def test_without_matplotlib_the_report_says_plots_need_the_extra(monkeypatch):
+def test_the_report_has_plots_without_matplotlib(monkeypatch):
     monkeypatch.setitem(sys.modules, "matplotlib", None)  # import matplotlib now raises ImportError
-    assert not plots.available()
+    assert plots.available()
     claim = ClaimOutcome("test/plot", "plot", "p.yaml", 1, "weak", "T = a/(2*pi)", routes=(fabricated_route("spectrum"),))
     page = to_html([claim], RUN)
-    assert "<svg" not in page and "crosscheck[plots]" in page
+    svgs = re.findall(r"<svg\b.*?</svg>", page, flags=re.S)
+    assert len(svgs) == 1 and 'aria-label="spectrum"' in svgs[0] and "<circle" in svgs[0]
+    assert "crosscheck[plots]" not in page and "own writer" in page
 
 
 def test_notebook_display_uses_the_same_templates(good_and_wrong):

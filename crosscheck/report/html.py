@@ -163,11 +163,7 @@ def route_fragment(outcome: RouteOutcome) -> str:
 
 
 def _plots_note() -> str:
-    if plots.available():
-        import matplotlib
-
-        return f"Plots drawn with matplotlib {matplotlib.__version__} (SVG backend)."
-    return "No plots: " + plots.EXTRA_HINT + "."
+    return "Plots drawn as SVG by crosscheck's own writer (crosscheck.report.svgplot)."
 
 
 def _cell(view: ClaimView, name: str) -> RouteView | RouteOutcome | None:
