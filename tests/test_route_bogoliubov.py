@@ -257,3 +257,75 @@ def test_symbolic_side_is_its_own_residue_derivation():
     omega, kappa_t = sympy.symbols("omega kappa_t", positive=True)
     ratio = next(step.expr.rhs for step in steps if "alpha/beta" in str(step.expr.lhs))
     assert sympy.simplify(ratio - sympy.exp(2 * sympy.pi * omega / kappa_t)) == 0
+
+
+# --------------------------------------------------------------------------- honest error bounds
+
+
+def _rn_temperature(p: dict) -> mpmath.mpf:
+    # Source: T = (r_+ - r_-)/(4 pi r_+^2) (Wald 1984, ch. 12, from memory).
+    root = mpmath.sqrt(p[M] ** 2 - p[Q] ** 2)
+    return 2 * root / (4 * mpmath.pi * (p[M] + root) ** 2)
+
+
+BOUND_CASES = {
+    # name: (problem, point, reference T); the hard points: RN at Q/M = 0.99 (r_+ - r_- = 0.28 M)
+    # and Schwarzschild-de Sitter at 9 M^2 Lambda = 0.972, near the Nariai limit (r_h near r_c).
+    "near-extremal rn": (lambda: problem(static_metric(1 - 2 * M / r + Q**2 / r**2), M + sympy.sqrt(M**2 - Q**2), (M, Q),
+                                         {M: ("1", "2"), Q: ("0.1", "0.99")}), {M: rat("1"), Q: rat("0.99")}, _rn_temperature),
+    "near-nariai sds geodesic": (lambda: problem(static_metric(1 - 2 * M / r - Lam * r**2 / 3), HorizonSpec(root=1), (M, Lam),
+                                                 {M: ("1", "2"), Lam: ("0.001", "0.108")}, Normalization(kind="geodesic")),
+                                 {M: rat("1"), Lam: rat("0.108")}, lambda p: sds_temperature(p, True)),
+    "near-nariai sds as-written": (lambda: problem(static_metric(1 - 2 * M / r - Lam * r**2 / 3), HorizonSpec(root=1), (M, Lam),
+                                                   {M: ("1", "2"), Lam: ("0.001", "0.108")}), {M: rat("1"), Lam: rat("0.108")},
+                                   lambda p: sds_temperature(p, False)),
+}
+
+
+@pytest.mark.parametrize("digits", [15, 20, 30])
+@pytest.mark.parametrize("name", ["schwarzschild", "reissner-nordstrom", "rindler", "unequal F and G", "near-extremal rn",
+                                  "near-nariai sds geodesic", "near-nariai sds as-written"])
+def test_reported_error_bounds_the_true_error(name, digits):
+    # The quadrature's error estimate (nested rules, 10 d2^2/d1) and the late-time
+    # extrapolation must bound the true error: |T - T_exact| <= error, with no factor 10
+    # of slack, at every precision the library asks for (30 is computed at 20).
+    make, point, exact = (CASES | BOUND_CASES)[name]
+    measured = ROUTE.numeric(make(), mp(point), digits).values["T"]
+    with mpmath.workdps(60):
+        expected = exact(mp(point))
+        assert abs(measured.value - expected) <= measured.error, (name, digits, measured, expected)
+        assert measured.error < mpmath.mpf(10) ** (-min(digits, 20)) * expected  # and the asked-for accuracy is met
+
+
+def test_chebyshev_antiderivative_used_for_the_map():
+    # Source: integral_0^t e^s ds = e^t - 1 and integral_0^t ds = t (calculus); the series is fitted by mpmath here.
+    # (The T_1 coefficient was once twice too large: the integral of 1 came out as 2 t.)
+    from crosscheck.routes._null_rays import Chebyshev
+    with mpmath.workdps(30):
+        Y = mpmath.mpf(2)
+        for f, F in ((lambda s: mpmath.mpf(1), lambda s: s), (mpmath.exp, lambda s: mpmath.exp(s) - 1)):
+            series = Chebyshev(f, Y, mpmath.mpf(10) ** -25)
+            for t in (mpmath.mpf("0.7"), mpmath.mpf("1.9")):
+                assert abs(series.integral_from_zero(t) - F(t)) < 1e-24
+
+
+@pytest.mark.parametrize("places", [12, 17, 22])
+def test_nested_rules_error_estimate_bounds_a_known_integral(places):
+    # Source: integral_0^1 t^(i nu) e^(-D t) dt = gamma(1 + i nu, D)/D^(1 + i nu), the lower
+    # incomplete Gamma function (DLMF 8.2.1), evaluated by mpmath here; the integrand has the
+    # late-time shape t^(i nu) e^(-D t/h) of the coefficient integrals, on the same stretched nodes.
+    from crosscheck.routes._bogoliubov_integrals import _Rules
+    with mpmath.workdps(places + 25):
+        nu, A, L, D = mpmath.mpf("1.5"), mpmath.mpf("0.005"), mpmath.mpf(2), (places + 25) * mpmath.log(10)
+
+        def terms(u):
+            grow = A * mpmath.exp(-u / L)
+            t = mpmath.exp(u - (grow - A))
+            value = (1 + grow / L) * t * t ** (1j * nu) * mpmath.exp(-D * t)
+            return [[value]], abs(value)
+
+        step = mpmath.mpf(5.5) * 2 * mpmath.pi * (0.8 * mpmath.pi / 2) / (places * mpmath.log(10))
+        rules = _Rules(terms, step, places, places + 25)
+        value, error = rules.result(0, 0)
+        exact = mpmath.gammainc(1 + 1j * nu, 0, D) / mpmath.power(D, 1 + 1j * nu)
+        assert abs(value - exact) / abs(exact) <= error <= mpmath.mpf(10) ** -places

@@ -292,7 +292,7 @@ class Chebyshev:
         n, half = len(c), self.Y / 2
         c = list(c) + [mpmath.mpf(0), mpmath.mpf(0)]
         out = [mpmath.mpf(0)] * (n + 1)
-        out[1] = half * (c[0] - c[2] / 2)
+        out[1] = half * (c[0] - c[2]) / 2  # f = c0/2 + sum c_k T_k; the T_1 part of the integral
         for k in range(2, n + 1):
             out[k] = half * (c[k - 1] - c[k + 1]) / (2 * k)
         return out
