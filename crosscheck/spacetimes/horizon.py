@@ -97,6 +97,7 @@ def _numerator(expr: sympy.Expr, r: sympy.Symbol) -> sympy.Expr:
     return sympy.expand(numerator)
 
 
+@functools.lru_cache(maxsize=256)  # every numeric root search of a claim asks again
 def _polynomial(expr: sympy.Expr, r: sympy.Symbol) -> sympy.Poly | None:
     """The numerator of expr as a polynomial in r, or None if it is not one."""
     numerator = _numerator(expr, r)
@@ -228,13 +229,14 @@ def horizon_radius(spacetime: Spacetime, representative: Mapping[sympy.Symbol, o
 # ---------------------------------------------------------------------------
 
 
-def _square_free_factors(poly: sympy.Poly) -> list[sympy.Poly]:
-    """Square-free factors of poly (symbolic coefficients), or [poly] if sympy cannot."""
+@functools.lru_cache(maxsize=256)
+def _square_free_factors(poly: sympy.Poly) -> tuple[sympy.Poly, ...]:
+    """Square-free factors of poly (symbolic coefficients), or (poly,) if sympy cannot."""
     try:
         _, factors = sympy.sqf_list(poly)
-        return [f for f, _ in factors if f.degree() > 0] or [poly]
+        return tuple(f for f, _ in factors if f.degree() > 0) or (poly,)
     except (BasePolynomialError, NotImplementedError, TypeError, ValueError):
-        return [poly]
+        return (poly,)
 
 
 def _poly_positive_roots(poly: sympy.Poly, point, dps: int) -> list[tuple[mpmath.mpf, mpmath.mpf]]:
