@@ -243,13 +243,19 @@ def wightman(line: Worldline, coupling: str = "monopole") -> Callable[[object], 
     dim, constant = line.dim, wightman_constant(line.dim)
     if dim % 2 == 0:  # an integer power: no branch to choose
         return lambda z: constant * line.sigma2(z) ** (1 - dim // 2)
-    half = mpmath.mpf(2 - dim) / 2
 
     def monopole(z: object) -> mpmath.mpc:
         z = mpmath.mpmathify(z)
-        return constant * (1j * z) ** (2 - dim) * mpmath.power(line.lapse_ratio(z), half)
+        return monopole_from_root(constant, dim, z, mpmath.sqrt(line.lapse_ratio(z)))
 
     return monopole
+
+
+def monopole_from_root(constant: mpmath.mpf, dim: int, z: object, root: object) -> mpmath.mpc:
+    """C_D (i z root)^(2-D), W at z given a square root of h(z) = -sigma2/z^2: the principal
+    root gives `wightman` (the principal power h^((2-D)/2) is the principal root to the
+    power 2 - D); callers that follow the root along a path pass their own."""
+    return constant * (1j * z * root) ** (2 - dim)
 
 
 def parity(line: Worldline, coupling: str = "monopole") -> int:

@@ -174,3 +174,47 @@ def test_circular_rate_and_effective_temperature_against_real_axis_quadrature(v,
         t_ref = w / mpmath.log((reference + w / (2 * mpmath.pi)) / reference)
         t_route = w / mpmath.log(rates.deexcitation[0].value / rates.excitation[0].value)
         assert abs(t_route / t_ref - 1) < 1e-7
+
+
+@pytest.mark.parametrize("dim, closed", [(4, bose_4d), (3, fermi_3d)])
+@pytest.mark.parametrize("digits", [20, 30])
+def test_reported_error_bounds_the_true_error_over_the_band(dim, closed, digits):
+    # Source: Birrell & Davies 1982 sec. 3.3; Takagi 1986 (both from memory), see module docstring.
+    # The route's working precisions (20, 30 digits), two accelerations, gaps over the default band.
+    for acceleration in ("0.3", "4"):
+        with mpmath.workdps(digits + 20):
+            a = mp(acceleration)
+            gaps = [a * mp(x) for x in ("0.1", "0.35", "1", "2.2", "4")]
+        rates = transition_rates(Worldline("uniform-acceleration", dim, acceleration=a), "monopole", gaps, digits)
+        with mpmath.workdps(digits + 20):
+            for w, up, down in zip(gaps, rates.excitation, rates.deexcitation):
+                for measured, exact in ((up, closed(w, a)), (down, closed(-w, a))):
+                    assert abs(measured.value - exact) <= measured.error  # honest
+                    assert measured.error <= mp(10) ** -digits * exact  # and as accurate as asked
+
+
+def test_band_samples_serve_a_gap_inside_the_band():
+    # Source: Birrell & Davies 1982 sec. 3.3 (from memory): F = (w/2pi)/(exp(2 pi w/a) - 1)
+    from crosscheck.routes._detector_rate import rates_from
+
+    a = mp("1.3")
+    band = transition_rates(Worldline("uniform-acceleration", 4, acceleration=a), "monopole", [a / 10, 4 * a], 20)
+    w = mp("1.7") * a
+    single = rates_from(band.sampling, [w])
+    with mpmath.workdps(40):
+        assert abs(single.excitation[0].value - bose_4d(w, a)) <= single.excitation[0].error <= mp(10) ** -20 * bose_4d(w, a)
+    with pytest.raises(ValueError):
+        rates_from(band.sampling, [5 * a])  # beyond the band the step is too coarse
+
+
+@pytest.mark.parametrize("v", ["0.5", "0.9"])
+def test_circular_rates_obey_the_commutator_identity_within_their_errors(v):
+    # Source: Takagi 1986 (from memory): F(-w) - F(w) = w/(2 pi) on any timelike worldline in 3+1
+    line = Worldline("circular", 4, radius=mp("1.3"), angular_velocity=mp(v) / mp("1.3"))
+    gaps = [line.proper_acceleration() * mp(x) for x in ("0.1", "0.5", "2", "4")]
+    for digits in (20, 30):
+        rates = transition_rates(line, "monopole", gaps, digits)
+        with mpmath.workdps(digits + 20):
+            for w, up, down in zip(gaps, rates.excitation, rates.deexcitation):
+                assert abs(down.value - up.value - w / (2 * mpmath.pi)) <= up.error + down.error
+                assert up.error <= mp(10) ** -digits * up.value

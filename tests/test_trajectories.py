@@ -61,6 +61,17 @@ def test_wightman_function_in_3_plus_1_is_one_over_4_pi2_sigma2():
         assert abs(wightman(line)(z) - 1 / (4 * mpmath.pi**2 * line.sigma2(z))) < mp(10) ** -25
 
 
+@pytest.mark.parametrize("z", [("0.7", "-0.4"), ("2.5", "-1.2"), ("0.3", "-0.01")])
+def test_wightman_function_in_2_plus_1_is_one_over_4_pi_sqrt_sigma2(z):
+    # Source: Takagi 1986, Prog. Theor. Phys. Suppl. 88, ch. 2 (from memory): W = 1/(4 pi sqrt(sigma2))
+    # in 2+1 with the root continued from s - i eps; the points are near enough to the real
+    # axis that this root is the principal one
+    with mpmath.workdps(30):
+        line = Worldline("uniform-acceleration", 3, acceleration=mp("1.1"))
+        z = mpmath.mpc(*z)
+        assert abs(wightman(line)(z) - 1 / (4 * mpmath.pi * mpmath.sqrt(line.sigma2(z)))) < mp(10) ** -25
+
+
 def test_schwarzschild_free_fall_from_rest():
     # Source: Wald 1984, sec. 6.3 (from memory): dr/dtau = -sqrt(2M/r) from rest at infinity
     with mpmath.workdps(30):

@@ -18,6 +18,8 @@ converges exponentially after a short truncation.
 
 from __future__ import annotations
 
+import functools
+import math
 from collections.abc import Callable
 
 import mpmath
@@ -37,7 +39,10 @@ def _coefficients(line: Worldline) -> tuple[mpmath.mpf, mpmath.mpf, mpmath.mpf, 
 
 
 def circular_remainder(line: Worldline) -> Callable[[object], mpmath.mpc]:
-    """z -> W(z) - S_M(z), computed from eps(z) directly (no exponentials expanded)."""
+    """z -> W(z) - S_M(z), computed from eps(z) directly (no exponentials expanded).
+
+    In 3+1 (q = 1) the binomial series is geometric and its tail is eps^(M+1)/(1 - eps)
+    exactly; otherwise (1 - eps)^(-q) less the partial sum (Horner)."""
     q, g, k, lead, _ = _coefficients(line)
     R = line.radius
     rising = [mpmath.rf(q, m) / mpmath.factorial(m) for m in range(ORDER + 1)]
@@ -45,6 +50,8 @@ def circular_remainder(line: Worldline) -> Callable[[object], mpmath.mpc]:
     def remainder(z: object) -> mpmath.mpc:
         z = mpmath.mpmathify(z)
         eps = 4 * R**2 * mpmath.sin(k * z / 2) ** 2 / (g * z) ** 2
+        if q == 1:
+            return lead * eps ** (ORDER + 1) / ((1 - eps) * z**2)
         partial = mpmath.mpf(0)
         for coefficient in reversed(rising):
             partial = partial * eps + coefficient
@@ -55,15 +62,37 @@ def circular_remainder(line: Worldline) -> Callable[[object], mpmath.mpc]:
 
 
 def subtracted_transform(line: Worldline, gap: mpmath.mpf) -> mpmath.mpf:
-    """integral along Im z = -c of exp(-i O z) S_M(z) dz, by residues at z = 0."""
-    _, _, k, lead, series = _coefficients(line)
+    """integral along Im z = -c of exp(-i O z) S_M(z) dz, by residues at z = 0.
+
+    Grouped by harmonic j: the terms with nu = O - j k < 0 give
+    sum_m A_mj (-i nu)^(n_m - 1), n_m = D - 2 + 2m, a polynomial in -i nu whose
+    coefficients (`_harmonics`) do not depend on the gap."""
+    k, lead, harmonics = _harmonics(line, mpmath.mp.prec)
     total = mpmath.mpc(0)
-    for m, weight in enumerate(series):
-        n = line.dim - 2 + 2 * m
-        for j in range(-m, m + 1):
-            nu = gap - j * k
-            if nu >= 0:
-                continue
-            b = (-1) ** j * mpmath.binomial(2 * m, m - j) / mpmath.mpf(2) ** m
-            total += weight * b * 2j * mpmath.pi * (-1j * nu) ** (n - 1) / mpmath.factorial(n - 1)
+    for j, coefficients in harmonics:
+        nu = gap - j * k
+        if nu >= 0:
+            continue
+        x = -1j * nu
+        square, power = x * x, x ** (line.dim - 3 + 2 * j)  # the lowest power present: m = j
+        for coefficient in coefficients:
+            total += coefficient * power
+            power *= square
     return mpmath.re(lead * total)
+
+
+@functools.lru_cache(maxsize=16)
+def _harmonics(line: Worldline, prec: int) -> tuple[mpmath.mpf, mpmath.mpc, list]:
+    """(k, lead, [(j, [A_jj, A_(j+1)j, ..., A_Mj]) for j = 1..M]) with
+    A_mj = w_m b_mj 2 pi i/(n_m - 1)!, b_mj = (-1)^j binom(2m, m - j)/2^m.
+    Only j >= 1 can have nu < 0 (gaps are positive).  Cached per line and precision."""
+    _, _, k, lead, series = _coefficients(line)
+    harmonics = []
+    for j in range(1, ORDER + 1):
+        row = []
+        for m in range(j, ORDER + 1):
+            n = line.dim - 2 + 2 * m
+            b = mpmath.ldexp(mpmath.mpf((-1) ** j * math.comb(2 * m, m - j)), -m)  # exact integers
+            row.append(series[m] * b * 2j * mpmath.pi / math.factorial(n - 1))
+        harmonics.append((j, row))
+    return k, lead, harmonics

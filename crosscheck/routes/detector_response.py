@@ -21,7 +21,7 @@ import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
-from crosscheck.routes._detector_rate import Rates, transition_rates
+from crosscheck.routes._detector_rate import Rates, Sampling, rates_from, transition_rates
 from crosscheck.routes._detector_spectrum import temperature, verdict
 from crosscheck.routes.base import NumericResult, Problem, SymbolicResult
 from crosscheck.trajectories import Worldline, band_gaps, detector_worldline, minkowski_applies
@@ -33,7 +33,7 @@ class DetectorResponseRoute:
     name: ClassVar[str] = "detector-response"
     title: ClassVar[str] = "First-order detector transition rate on the worldline, detailed balance"
     grade: ClassVar[Literal["exact", "estimate"]] = "exact"
-    version: ClassVar[str] = "1"
+    version: ClassVar[str] = "2"
     observables: ClassVar[frozenset[str]] = frozenset({"T", "T_eff", "rate", "spectrum"})
     scope: ClassVar[frozenset[str]] = frozenset({"detector"})
 
@@ -56,7 +56,7 @@ class DetectorResponseRoute:
                 values["T"] = _mean(temperatures)
             elif spectrum["detail"].startswith("no excitation"):
                 values["T"] = Measured(mpmath.mpf(0), max(t.error for t in temperatures))
-        functions = _functions(line, coupling, digits)
+        functions = _functions(line, coupling, digits, rates.sampling)
         evidence = _evidence(line, gaps, rates, temperatures, spectrum)
         provenance = (f"worldline: {line.kind}, dim {line.dim}, {coupling} coupling, Minkowski vacuum",
                       *rates.provenance,
@@ -70,8 +70,9 @@ def _mean(temperatures: list[Measured]) -> Measured:
     return Measured(mean, max(abs(v - mean) for v in values) + max(t.error for t in temperatures))
 
 
-def _functions(line: Worldline, coupling: str, digits: int) -> dict[str, Callable[[object], Measured]]:
-    """T_eff(w) and rate(w) at any gap, computed when asked (cached per gap)."""
+def _functions(line: Worldline, coupling: str, digits: int, band: Sampling | None) -> dict[str, Callable[[object], Measured]]:
+    """T_eff(w) and rate(w) at any gap, computed when asked (cached per gap).  A gap within
+    the band reuses the band's samples (they serve any gap up to the largest)."""
     cache: dict[str, Rates] = {}
 
     def rates_at(w: object) -> tuple[mpmath.mpf, Rates]:
@@ -80,7 +81,8 @@ def _functions(line: Worldline, coupling: str, digits: int) -> dict[str, Callabl
             raise CannotCompute("the gap must be non-zero")
         key = mpmath.nstr(gap, digits + 5)
         if key not in cache:
-            cache[key] = transition_rates(line, coupling, [gap], digits)
+            inside = band is not None and gap <= band.top
+            cache[key] = rates_from(band, [gap]) if inside else transition_rates(line, coupling, [gap], digits)
         return gap, cache[key]
 
     def t_eff(w: object) -> Measured:

@@ -3,7 +3,7 @@
 A thermal state at inverse temperature beta obeys the KMS condition
 W(s - i beta) = W(-s) (PHYSICS.md, "kms-correlator").  The route pulls the
 vacuum Wightman function back to the worldline, continues it to complex proper
-time (`_kms_poles.continued_wightman`) and, at several real s, solves
+time (`_kms_poles.Continuation`) and, at several real s, solves
 W(s - i beta) = W(-s) for beta: the best of a scan over real beta, refined by the
 secant method in the complex beta plane.  The same real beta at every s means a KMS state, T = 1/beta; roots
 that differ, are complex or do not exist mean no beta satisfies the condition
@@ -25,7 +25,7 @@ import sympy
 
 from crosscheck.errors import CannotCompute
 from crosscheck.measure import Measured
-from crosscheck.routes._kms_poles import circular_rate, continued_wightman, deexcitation_from_poles
+from crosscheck.routes._kms_poles import Continuation, circular_rate, deexcitation_from_poles
 from crosscheck.routes.base import NumericResult, Problem, SymbolicResult
 from crosscheck.trajectories import Worldline, detector_worldline, minkowski_applies, wightman
 
@@ -38,7 +38,7 @@ class KmsCorrelatorRoute:
     name: ClassVar[str] = "kms-correlator"
     title: ClassVar[str] = "Imaginary-time (KMS) periodicity of the pulled-back two-point function"
     grade: ClassVar[Literal["exact", "estimate"]] = "exact"
-    version: ClassVar[str] = "1"
+    version: ClassVar[str] = "2"
     observables: ClassVar[frozenset[str]] = frozenset({"T", "T_eff", "rate", "spectrum"})
     scope: ClassVar[frozenset[str]] = frozenset({"detector"})
 
@@ -99,22 +99,40 @@ def kms_search(line: Worldline, coupling: str, digits: int) -> dict[str, object]
 def _root(line: Worldline, coupling: str, W, s: mpmath.mpf, depth: mpmath.mpf, digits: int) -> mpmath.mpc | None:
     """beta with W(s - i beta) = W(-s): the best of a scan over real beta in
     (0.3, 1.7) x depth, refined by the secant method in the complex plane; None if
-    the refinement fails or the residual stays above the tolerance."""
-    target = W(-s)
+    the refinement fails or the residual stays above the tolerance.
 
-    def mismatch(b: object) -> mpmath.mpc:
-        if abs(b) > 3 * depth:  # the iteration has left the strip it was started in
-            raise ValueError("the secant iteration diverged")
-        return continued_wightman(line, coupling, s, s - 1j * b) - target
+    W(s - i beta) is continued down the vertical from s once (`Continuation`, steps of
+    depth/48), so the scan and the secant steps, all near the vertical, reuse the path.
+    The secant stops when a step is below 10^-(digits + 8) |beta|: it converges
+    superlinearly, so the last iterate is closer still."""
+    target = W(-s)
+    continued = Continuation(line, coupling, s, depth / 48)
+
+    def mismatch(b: mpmath.mpc) -> mpmath.mpc:
+        return continued(s - 1j * b) - target
 
     grid = [depth * (mpmath.mpf(3) / 10 + mpmath.mpf(k) / 10) for k in range(15)]
     start = min(grid, key=lambda b: abs(mismatch(b)))
-    try:
-        beta = mpmath.findroot(mismatch, (mpmath.mpc(start), mpmath.mpc(start * (1 + mpmath.mpf(10) ** -4))),
-                               solver="secant", tol=mpmath.mpf(10) ** (-2 * (digits + 5)), maxsteps=60)
-    except (ValueError, ZeroDivisionError):
+    beta = _secant(mismatch, mpmath.mpc(start), mpmath.mpc(start * (1 + mpmath.mpf(10) ** -4)), 3 * depth, digits + 8)
+    if beta is None:
         return None
     return beta if abs(mismatch(beta)) <= mpmath.mpf(10) ** (-digits) * abs(target) else None
+
+
+def _secant(f, b0: mpmath.mpc, b1: mpmath.mpc, reach: mpmath.mpf, digits: int, steps: int = 60) -> mpmath.mpc | None:
+    """The secant iteration from b0, b1 until a step is below 10^-digits |b|; None when it
+    leaves |b| < reach (it has left the strip it was started in) or does not settle."""
+    f0, f1 = f(b0), f(b1)
+    for _ in range(steps):
+        if f1 == f0:
+            return b1 if f1 == 0 else None
+        b0, b1, f0 = b1, b1 - f1 * (b1 - b0) / (f1 - f0), f1
+        if abs(b1) > reach:
+            return None
+        if abs(b1 - b0) <= mpmath.mpf(10) ** (-digits) * abs(b1):
+            return b1
+        f1 = f(b1)
+    return None
 
 
 def _functions(line: Worldline, kms_temperature: Measured | None, digits: int) -> dict[str, Callable[[object], Measured]]:
@@ -124,10 +142,16 @@ def _functions(line: Worldline, kms_temperature: Measured | None, digits: int) -
     if line.kind != "circular" or line.dim != 4:
         return {}
 
+    cache: dict[str, tuple[mpmath.mpf, Measured, Measured]] = {}
+
     def rates(w: object) -> tuple[mpmath.mpf, Measured, Measured]:
+        """F(+w), F(-w), computed once per gap (T_eff and rate at one gap share them)."""
         gap = abs(mpmath.mpf(mpmath.re(w)))
-        up = circular_rate(line, gap, digits)
-        return gap, up, deexcitation_from_poles(line, gap, up)
+        key = mpmath.nstr(gap, digits + 5)
+        if key not in cache:
+            up = circular_rate(line, gap, digits)
+            cache[key] = (gap, up, deexcitation_from_poles(line, gap, up))
+        return cache[key]
 
     def t_eff(w: object) -> Measured:
         gap, up, down = rates(w)
