@@ -20,29 +20,50 @@ import sympy
 from sympy.core.function import AppliedUndef
 
 from crosscheck.errors import CannotCompute
+from crosscheck.limits import algebraic_limit
 from crosscheck.measure import Measured
 from crosscheck.mpfunctions import MPMATH_FUNCTIONS
 from crosscheck.numerics import richardson_limit, richardson_until
 from crosscheck.observables import FUNCTION_OBSERVABLES, SCALAR_OBSERVABLES, substitute_observables
+from crosscheck.radicals import Box
 from crosscheck.routes.base import NumericResult, SymbolicResult
 
 Provider = Callable[[Mapping[sympy.Symbol, mpmath.mpf]], NumericResult]
 
 
 
-def substitute_symbolic(expr: sympy.Expr, result: SymbolicResult) -> sympy.Expr:
-    """The claim side with the route's closed forms in place, calculus done."""
+def substitute_symbolic(expr: sympy.Expr, result: SymbolicResult, box: Box | None = None,
+                        notes: list[str] | None = None) -> sympy.Expr:
+    """The claim side with the route's closed forms in place, calculus done.  With the
+    parameter `box`, limits of algebraic expressions are taken by `crosscheck.limits`
+    first (sympy's `limit` often runs out of time on near-horizon ratios)."""
     wanted = {f.func.__name__ for f in expr.atoms(AppliedUndef)}
     missing = sorted(wanted - set(result.values) - set(result.functions))
     missing = [m for m in missing if m in SCALAR_OBSERVABLES or m in FUNCTION_OBSERVABLES]
     if missing:
         raise CannotCompute(f"no closed form for {', '.join(missing)}")
     substituted = substitute_observables(expr, result.values, result.functions)
+    if box is not None and substituted.has(sympy.Limit):
+        substituted = _algebraic_limits(substituted, box, notes if notes is not None else [])
     if substituted.has(sympy.Derivative, sympy.Limit, sympy.Integral):
         substituted = substituted.doit()
         if substituted.has(sympy.Limit, sympy.Integral):
             raise CannotCompute("sympy could not carry out the limit or integral in closed form")
     return substituted
+
+
+def _algebraic_limits(expr: sympy.Expr, box: Box, notes: list[str]) -> sympy.Expr:
+    """expr with each innermost Limit that `algebraic_limit` can take replaced by its value."""
+    found = {}
+    for node in expr.atoms(sympy.Limit):
+        if node.args[0].has(sympy.Limit, sympy.Derivative, sympy.Integral):
+            continue
+        value = algebraic_limit(*node.args, box)
+        if value is not None:
+            found[node] = value
+            notes.append(f"the limit {node.args[1]} -> {node.args[2]} taken in closed form (written as "
+                         f"{node.args[1]} = {node.args[2]} + t^2, square roots reduced over the parameter ranges)")
+    return expr.xreplace(found) if found else expr
 
 
 class NumericEvaluator:

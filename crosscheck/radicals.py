@@ -23,7 +23,7 @@ the caller goes on to other canonical forms.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from fractions import Fraction
 
 import sympy
@@ -31,7 +31,7 @@ from mpmath import iv
 
 from crosscheck import fieldroots
 
-__all__ = ["reduce_radicals", "sign_on_box"]
+__all__ = ["parameter_box", "reduce_radicals", "sign_on_box", "with_generators"]
 
 Box = Mapping[sympy.Symbol, tuple[Fraction, Fraction]]
 
@@ -156,6 +156,9 @@ class _Roots:
         if bottom.free_symbols & self.generators:
             root_of_bottom = self._field_square(bottom, inner)  # proved >= 0, so sqrt(top/bottom) = sqrt(top)/it
             sign = 1
+            if root_of_bottom is None:  # sqrt(a/b) = sqrt(a)/sqrt(b) for b > 0 (b = 0: undefined anyway)
+                sign = self._sign_with_roots(bottom, inner)
+                root_of_bottom = self._root_of_top(sign * bottom, inner) if sign != 0 else None
         else:
             sign = sign_on_box(bottom, self.box, strict=True)  # sqrt(a/b) = sqrt(a)/sqrt(b) for b > 0
             root_of_bottom = self.root(sign * bottom, 2) if sign != 0 else None
@@ -163,10 +166,20 @@ class _Roots:
             return None
         return self._root_of_top(sign * top, inner) / root_of_bottom
 
+    def _sign_with_roots(self, expr: sympy.Expr, inner: set[sympy.Symbol]) -> int:
+        """expr's sign on the box, inner roots given their intervals (square roots of
+        radicands free of roots only), or 0."""
+        keys = {symbol: key for key, symbol in self.symbols.items()}
+        if any(keys[s][0] != 2 or keys[s][1].free_symbols & self.generators for s in inner):
+            return 0
+        return sign_on_box(expr, self.box, roots={s: keys[s][1] for s in inner})
+
     def _root_of_top(self, top: sympy.Expr, inner: set[sympy.Symbol]) -> sympy.Expr:
         """sqrt(top) for a polynomial in the parameters and inner roots: a field square,
         or sqrt(|c|) times a generator of top/c, with c the numeric factor of top's
         leading term (so that P and 2 P share a generator)."""
+        if top.is_number:
+            return sympy.sqrt(top)
         square = self._field_square(top, inner) if top.free_symbols & inner else None
         if square is not None:
             return square
@@ -182,11 +195,11 @@ class _Roots:
 
     def _common_factor(self, top: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
         """(a, top / a): a the factor common to top's terms that is free of roots and
-        proved positive on the box (M^2 in M^2 x^2 s - M^2 x), else (1, top)."""
+        proved >= 0 on the box (M^2 in M^2 x^2 s - M^2 x), else (1, top)."""
         outside = [f for f in sympy.Mul.make_args(sympy.factor_terms(top))
                    if not f.is_Add and not f.is_number and not (f.free_symbols & self.generators)]
         common = sympy.Mul(*outside)
-        if common == 1 or self._split(common, 2) is None or sign_on_box(common, self.box, strict=True) != 1:
+        if common == 1 or self._split(common, 2) is None or sign_on_box(common, self.box) != 1:
             return sympy.S.One, top
         return common, sympy.expand(sympy.cancel(top / common))
 
@@ -230,12 +243,16 @@ class _Roots:
         return sympy.Dummy("t"), sympy.expand(sympy.Mul(*radicands)), sympy.Mul(*inner)
 
     def reduced(self, expr: sympy.Expr) -> sympy.Expr:
-        """expr expanded, each generator's powers reduced below its index (s^n = g)."""
-        expr = sympy.expand(expr)
+        """expr expanded, each generator's powers reduced below its index (s^n = g); a
+        fraction has its numerator and denominator reduced."""
+        top, bottom = sympy.fraction(sympy.together(expr))
+        if bottom.free_symbols & self.generators:
+            return self.reduced(top) / self.reduced(bottom)
+        expr = sympy.expand(top)
         for (n, g), symbol in sorted(self.symbols.items(), key=lambda item: -len(item[0][1].free_symbols & self.generators)):
             if expr.has(symbol):
                 expr = _reduce_powers(expr, symbol, g, n)
-        return expr
+        return expr / sympy.expand(bottom)
 
     def _generator(self, g: sympy.Expr, n: int) -> sympy.Expr:
         g = sympy.expand(g)
@@ -282,6 +299,13 @@ class _Roots:
     def relations(self) -> list[tuple[sympy.Symbol, sympy.Expr, int]]:
         return [(s, g, n) for (n, g), s in self.symbols.items()]
 
+    def radicals(self, expr: sympy.Expr) -> sympy.Expr:
+        """expr with every generator s (s^n = g) written back as g^(1/n)."""
+        back = {s: g ** sympy.Rational(1, n) for s, g, n in self.relations()}
+        while expr.free_symbols & self.generators:
+            expr = expr.xreplace(back)
+        return expr
+
 
 def _with_generators(expr: sympy.Expr, roots: _Roots) -> sympy.Expr:
     """expr with every P^(p/n) replaced by (its generators)^p, innermost roots first."""
@@ -327,13 +351,21 @@ def _without_abs(expr: sympy.Expr, box: Box) -> sympy.Expr:
     return expr.xreplace(mapping) if mapping else expr
 
 
-def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
-    """The numerator of expr after every square root is reduced (see the module text).
+def parameter_box(parameters: Sequence) -> dict[sympy.Symbol, tuple[Fraction, Fraction]]:
+    """The claim parameters' exact ranges keyed by their symbols (a float end by its repr:
+    0.95 means 19/20)."""
+    def exact(value: object) -> Fraction:
+        if isinstance(value, float):
+            return Fraction(repr(value))
+        rational = sympy.Rational(value)
+        return Fraction(int(rational.p), int(rational.q))
 
-    `box` maps parameter symbols to exact (lo, hi) ranges; without it no
-    radicand is split.  Zero means expr is identically zero on the box;
-    anything else is only a remainder.
-    """
+    return {p.symbol: (exact(p.lo), exact(p.hi)) for p in parameters}
+
+
+def with_generators(expr: sympy.Expr, box: Box | None = None) -> tuple[sympy.Expr, _Roots]:
+    """expr with its roots written as generators (steps 1-2 of the module text), and the
+    generators (`relations()`, `reduced(e)`, `radicals(e)`)."""
     plain = _without_abs(expr, box or {})
     roots = _Roots(box or {})
     replaced = _with_generators(plain, roots)
@@ -341,6 +373,17 @@ def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
     if common:  # again, with one generator per radicand
         roots = _Roots(box or {}, common)
         replaced = _with_generators(plain, roots)
+    return replaced, roots
+
+
+def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
+    """The numerator of expr after every square root is reduced (see the module text).
+
+    `box` maps parameter symbols to exact (lo, hi) ranges; without it no
+    radicand is split.  Zero means expr is identically zero on the box;
+    anything else is only a remainder.
+    """
+    replaced, roots = with_generators(expr, box)
     numerator, _ = sympy.fraction(sympy.together(replaced))
     reduced = sympy.expand(numerator)
     relations = roots.relations()
@@ -352,4 +395,3 @@ def reduce_radicals(expr: sympy.Expr, box: Box | None = None) -> sympy.Expr:
         if reduced.has(root):
             reduced = _reduce_powers(reduced, root, radicand, n)
     return reduced
-

@@ -25,6 +25,7 @@ from crosscheck.dimcheck import dimension_outcome
 from crosscheck.errors import CannotCompute, ClaimError
 from crosscheck.evaluate import NumericEvaluator, substitute_symbolic
 from crosscheck.measure import Measured
+from crosscheck.radicals import parameter_box
 from crosscheck.results import ClaimOutcome, Diagnosis, RouteOutcome, SymbolicCheck
 from crosscheck.routes.base import NumericResult, Problem, Route, SymbolicResult, claim_kind, route_scope
 from crosscheck.suspects import suspicious_factors
@@ -232,9 +233,10 @@ def _symbolic_side(claim, route, problem, options, notes):
     result = None
     try:
         result = _to_claim_units_symbolic(route.symbolic(problem), claim)
+        box = parameter_box(claim.parameters)
         # sympy's limit and integrate can run for ever: the numeric side decides then.
         route_side, claim_side = run_limited(
-            lambda: (substitute_symbolic(claim.lhs, result), substitute_symbolic(claim.rhs, result)),
+            lambda: (substitute_symbolic(claim.lhs, result, box, notes), substitute_symbolic(claim.rhs, result, box, notes)),
             options.symbolic_budget,
         )
     except OutOfTime:
