@@ -85,7 +85,7 @@ def build_parser() -> argparse.ArgumentParser:
 def _add_run_options(command: argparse.ArgumentParser) -> None:
     command.add_argument("--routes", metavar="LIST", help="comma-separated route names (default: all)")
     command.add_argument("--samples", type=_positive_int, default=5, metavar="N", help="numeric sample points (default 5)")
-    command.add_argument("--digits", type=_positive_int, default=30, metavar="D", help="working precision (default 30)")
+    command.add_argument("--digits", type=_positive_int, default=20, metavar="D", help="working precision in digits (default 20)")
     command.add_argument("--seed", type=int, default=0, metavar="S", help="seed of the sample points (default 0)")
     command.add_argument("--timeout", type=_seconds, default=60.0, metavar="S", help="seconds per claim and route (default 60)")
     command.add_argument("--memory", type=_memory, default=4096, metavar="MB",

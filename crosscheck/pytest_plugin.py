@@ -43,7 +43,7 @@ def pytest_addoption(parser: pytest.Parser) -> None:
     group.addoption("--claims", action="append", default=[], metavar="PATH",
                     help="check the claim files under PATH (claim files under paths named on the command line are checked too)")
     group.addoption("--claims-samples", type=int, default=5, metavar="N", help="numeric sample points per claim (default 5)")
-    group.addoption("--claims-digits", type=int, default=30, metavar="D", help="working precision (default 30)")
+    group.addoption("--claims-digits", type=int, default=20, metavar="D", help="working precision in digits (default 20)")
     group.addoption("--claims-timeout", type=float, default=60.0, metavar="S", help="seconds per claim and route (default 60)")
     group.addoption("--claims-strict", action="store_true", help="also fail weak and unchecked claims")
 

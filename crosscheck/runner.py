@@ -37,7 +37,11 @@ class RunOptions:
     """Settings that change results (so they are part of what reports record)."""
 
     samples: int = 5
-    digits: int = 30
+    # Working precision of the numeric sides.  The default tolerance is 1e-9 and the routes'
+    # error estimates run far below it at 20 digits (the tests check the routes at 30).
+    # Measured on the library (52 claims): 30 -> 20 digits takes the CPU from 107 s to 97 s,
+    # every claim keeps its status, and the mutation audit catches the same 544 of 545.
+    digits: int = 20
     seed: int = 0
     timeout: float = 60.0
     # Seconds for sympy to prove route = claim (and for the claim's calculus).  A proof that
