@@ -9,12 +9,16 @@ relative error is below 1e-12.  Run: python benchmarks/detector_rate.py
 
 from __future__ import annotations
 
+import os
+import sys
 import time
 
 import mpmath
 
-from crosscheck.routes._detector_rate import transition_rates
-from crosscheck.trajectories import Worldline
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+
+from crosscheck.routes._detector_rate import transition_rates  # noqa: E402
+from crosscheck.trajectories import Worldline  # noqa: E402
 
 GAPS = ("0.25", "0.5", "1", "2", "3")
 DIGITS = 15
