@@ -183,9 +183,9 @@ class _Roots:
         square = self._field_square(top, inner) if top.free_symbols & inner else None
         if square is not None:
             return square
-        outside, top = self._common_factor(top)
-        if outside != 1:  # sqrt(a b) = sqrt(a) sqrt(b) for a > 0
-            return self._split(outside, 2) * self._root_of_top(top, inner)
+        root_of_common, top = self._common_factor(top)
+        if root_of_common is not None:  # sqrt(a b) = sqrt(a) sqrt(b) for a >= 0
+            return root_of_common * self._root_of_top(top, inner)
         terms = sorted(sympy.Add.make_args(top), key=sympy.default_sort_key)
         content, _ = terms[0].as_independent(*top.free_symbols)
         if not (content.is_number and content.is_real and content != 0):
@@ -193,15 +193,17 @@ class _Roots:
         sign = 1 if content.is_positive else -1
         return sympy.sqrt(sign * content) * self._generator(sympy.expand(top / (sign * content)), 2)
 
-    def _common_factor(self, top: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
-        """(a, top / a): a the factor common to top's terms that is free of roots and
-        proved >= 0 on the box (M^2 in M^2 x^2 s - M^2 x), else (1, top)."""
+    def _common_factor(self, top: sympy.Expr) -> tuple[sympy.Expr | None, sympy.Expr]:
+        """(sqrt(a), top / a): a the factor common to top's terms that is free of roots,
+        split by `_split` (which proves a >= 0 on the box): M^2 in M^2 x^2 s - M^2 x.
+        (None, top) when there is none or its sign is not proved."""
         outside = [f for f in sympy.Mul.make_args(sympy.factor_terms(top))
                    if not f.is_Add and not f.is_number and not (f.free_symbols & self.generators)]
         common = sympy.Mul(*outside)
-        if common == 1 or self._split(common, 2) is None or sign_on_box(common, self.box) != 1:
-            return sympy.S.One, top
-        return common, sympy.expand(sympy.cancel(top / common))
+        root = self._split(common, 2) if common != 1 else None
+        if root is None:
+            return None, top
+        return root, sympy.expand(sympy.cancel(top / common))
 
     def _field_square(self, radicand: sympy.Expr, inner: set[sympy.Symbol]) -> sympy.Expr | None:
         """w >= 0 (proved on the box) with w^2 = radicand exactly, w in the field of one
